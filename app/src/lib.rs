@@ -1,0 +1,27 @@
+//! Tussock's workbench in the browser.
+//!
+//! State lives in one place ([`state::Workbench`], a Yew reducer) and is pure
+//! Rust, unit-tested natively. Components under `components/` receive data
+//! down and send actions up. Charts ([`charts`]) are drawn by functions generic
+//! over plotters' `DrawingBackend`, so the same code can draw to a canvas or
+//! to SVG.
+
+pub mod app;
+pub mod charts;
+pub mod components;
+pub mod panic;
+pub mod state;
+
+/// Start the app in the page's `<main id="app">` element.
+pub fn start() {
+    panic::install_hook();
+    let root = web_sys::window()
+        .and_then(|w| w.document())
+        .and_then(|d| d.get_element_by_id("app"));
+    match root {
+        Some(root) => {
+            yew::Renderer::<app::App>::with_root(root).render();
+        }
+        None => panic::show_fatal("the page has no element with id \"app\""),
+    }
+}

@@ -1,0 +1,3 @@
+fn main() {
+    tussock_app::start();
+}

@@ -1,0 +1,111 @@
+//! `tussock run` end to end: the real binary on files.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn example(name: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../examples")
+        .join(name)
+}
+
+fn tussock(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_tussock"))
+        .args(args)
+        .output()
+        .expect("run tussock")
+}
+
+/// Write `contents` to a fresh file and run `tussock run` on it; returns
+/// (exit success, stdout, stderr).
+fn run_on(contents: &[u8]) -> (bool, String, String) {
+    let dir = std::env::temp_dir().join(format!("tussock-cli-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join(format!("s{}.json", contents.len()));
+    std::fs::write(&file, contents).unwrap();
+    let out = tussock(&["run", file.to_str().unwrap()]);
+    let _ = std::fs::remove_file(&file);
+    (
+        out.status.success(),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+#[test]
+fn run_writes_csv_with_header_and_one_row_per_output_time() {
+    let out = tussock(&["run", example("greenhouse-mites.json").to_str().unwrap()]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8(out.stdout).unwrap();
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(lines[0], "t,spider mite,predatory mite");
+    // t_end 120 with output_step 1: times 0, 1, …, 120.
+    assert_eq!(lines.len(), 1 + 121);
+    assert_eq!(lines[1], "0,60,5");
+    let last: Vec<f64> = lines[121].split(',').map(|v| v.parse().unwrap()).collect();
+    assert_eq!(last[0], 120.0);
+    assert!(last[1] > 0.0 && last[2] > 0.0);
+}
+
+#[test]
+fn run_json_reports_stop_reason_and_step_statistics() {
+    let out = tussock(&[
+        "run",
+        "--json",
+        example("greenhouse-mites.json").to_str().unwrap(),
+    ]);
+    assert!(out.status.success());
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["stop"]["kind"], "finished");
+    assert_eq!(v["times"].as_array().unwrap().len(), 121);
+    assert!(v["stats"]["accepted_steps"].as_u64().unwrap() > 10);
+}
+
+#[test]
+fn bad_files_get_one_line_errors_and_a_failing_exit() {
+    let cases: &[(&[u8], &str)] = &[
+        (b"", "not a valid scenario file"),
+        (b"{", "not a valid scenario file"),
+        (b"\xff\xfe\x00garbage", "not a text file"),
+        (b"[1, 2, 3]", "not a valid scenario file"),
+        (br#"{"model": "nope", "initial": [1], "t_end": 1}"#, "unknown model \"nope\""),
+        (br#"{"model": "lotka_volterra", "params": {"r": 0.3, "a": 0.02, "e": 0.25, "m": 0.2, "K": -5}, "initial": [1, 1], "t_end": 10}"#, "params.K: must be > 0, got -5"),
+        (br#"{"model": "lotka_volterra", "params": {"r": 0.3, "a": 0.02, "e": 0.25, "m": 0.2, "q": 1}, "initial": [1, 1], "t_end": 10}"#, "params.q: not a parameter"),
+        (br#"{"model": "lotka_volterra", "params": {"r": 0.3, "a": 0.02, "e": 0.25, "m": 0.2}, "initial": [1], "t_end": 10}"#, "initial: lotka_volterra needs 2 initial densities"),
+        (br#"{"model": "lotka_volterra", "params": {"r": 0.3, "a": 0.02, "e": 0.25, "m": 0.2}, "initial": [1, 1], "t_end": -1}"#, "t_end: must be a positive number"),
+        (br#"{"model": "lotka_volterra", "params": {"r": 0.3, "a": 0.02, "e": 0.25, "m": 0.2}, "initial": [1, 1], "t_end": 10, "colour": 3}"#, "unknown field `colour`"),
+        (br#"{"format": 99, "model": "lotka_volterra", "initial": [1, 1], "t_end": 10}"#, "newer than this build reads"),
+    ];
+    for (contents, expected) in cases {
+        let (ok, stdout, stderr) = run_on(contents);
+        let shown = String::from_utf8_lossy(contents);
+        assert!(!ok, "accepted {shown}");
+        assert!(stdout.is_empty(), "wrote output for {shown}");
+        assert_eq!(
+            stderr.lines().count(),
+            1,
+            "not one line for {shown}: {stderr}"
+        );
+        assert!(stderr.starts_with("tussock: "), "{stderr}");
+        assert!(
+            stderr.contains(expected),
+            "for {shown} expected {expected:?}, got {stderr}"
+        );
+        assert!(!stderr.contains("panicked"), "{stderr}");
+    }
+}
+
+#[test]
+fn a_missing_file_is_named_in_the_error() {
+    let out = tussock(&["run", "/nonexistent/scenario.json"]);
+    assert!(!out.status.success());
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        stderr.contains("cannot read /nonexistent/scenario.json"),
+        "{stderr}"
+    );
+}

@@ -1,0 +1,170 @@
+//! What a model is: its parameters, its state and its right-hand side.
+//!
+//! Every model lives in one file under `models/` and is listed once in
+//! [`crate::models::MODELS`]. The app's model picker and parameter panel, the
+//! CLI help and scenario validation are all generated from that list.
+
+use ode_solvers::{SVector, Vector2};
+
+/// Population densities. Every model in Tussock has at most two species; a
+/// one-species model keeps its second component at zero.
+pub type State = Vector2<f64>;
+
+/// Jacobian matrix of a two-dimensional model.
+pub type Jacobian = nalgebra::Matrix2<f64>;
+
+/// Largest number of parameters any model has.
+pub const MAX_PARAMS: usize = 12;
+
+/// Parameter values of one model, in the order of its [`ModelSpec::params`].
+/// A fixed array keeps right-hand-side evaluations free of heap allocation.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Params {
+    pub values: SVector<f64, MAX_PARAMS>,
+}
+
+impl Params {
+    /// The defaults of a model.
+    pub fn defaults(model: &ModelSpec) -> Params {
+        let mut values = SVector::<f64, MAX_PARAMS>::zeros();
+        for (i, p) in model.params.iter().enumerate() {
+            values[i] = p.default;
+        }
+        Params { values }
+    }
+}
+
+impl std::ops::Index<usize> for Params {
+    type Output = f64;
+    fn index(&self, i: usize) -> &f64 {
+        &self.values[i]
+    }
+}
+
+impl std::ops::IndexMut<usize> for Params {
+    fn index_mut(&mut self, i: usize) -> &mut f64 {
+        &mut self.values[i]
+    }
+}
+
+/// The question a model answers; the app groups its model picker by it.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Group {
+    PredatorPrey,
+    Competition,
+    SinglePopulation,
+}
+
+impl Group {
+    pub fn label(self) -> &'static str {
+        match self {
+            Group::PredatorPrey => "Predator and prey",
+            Group::Competition => "Two competitors",
+            Group::SinglePopulation => "One population",
+        }
+    }
+}
+
+/// Unit of a parameter, written out with the scenario's time unit.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Unit {
+    /// per capita per time unit (a rate)
+    PerTime,
+    /// per individual per time unit (an encounter or attack rate)
+    PerIndividualPerTime,
+    /// individuals (a density or a carrying capacity)
+    Individuals,
+    /// a pure number (an efficiency or a competition coefficient)
+    Dimensionless,
+    /// a duration in time units
+    Time,
+}
+
+impl Unit {
+    /// The unit as shown to a user, e.g. `per day` for [`Unit::PerTime`].
+    pub fn label(self, time_unit: &str) -> String {
+        let t = singular(time_unit);
+        match self {
+            Unit::PerTime => format!("per {t}"),
+            Unit::PerIndividualPerTime => format!("per individual per {t}"),
+            Unit::Individuals => "individuals".to_string(),
+            Unit::Dimensionless => "dimensionless".to_string(),
+            Unit::Time => time_unit.to_string(),
+        }
+    }
+}
+
+fn singular(time_unit: &str) -> &str {
+    time_unit.strip_suffix('s').unwrap_or(time_unit)
+}
+
+/// One parameter of a model.
+#[derive(Clone, Copy, Debug)]
+pub struct ParamSpec {
+    /// The key in scenario files: the trade's usual symbol (`r`, `K`, `a`…).
+    pub symbol: &'static str,
+    /// Plain name (`prey growth rate`).
+    pub name: &'static str,
+    pub unit: Unit,
+    pub default: f64,
+    /// Smallest valid value (inclusive).
+    pub min: f64,
+    /// Largest valid value (inclusive).
+    pub max: f64,
+    /// One-line explanation for tooltips and CLI help.
+    pub help: &'static str,
+    /// When true the parameter may be left out of a scenario; it then takes
+    /// its default, which may be infinite (e.g. no carrying capacity).
+    pub optional: bool,
+}
+
+/// Everything Tussock knows about one model.
+#[derive(Debug)]
+pub struct ModelSpec {
+    /// Key in scenario files (`lotka_volterra`).
+    pub key: &'static str,
+    /// Title shown to users.
+    pub title: &'static str,
+    pub group: Group,
+    /// One sentence on what the model describes.
+    pub summary: &'static str,
+    /// The equations, as plain text.
+    pub equations: &'static str,
+    /// Default names of the species in state order; its length is the
+    /// number of species.
+    pub species: &'static [&'static str],
+    pub params: &'static [ParamSpec],
+    /// Right-hand side dx/dt at state `x` (x is never negative here).
+    pub rhs: fn(&Params, &State) -> State,
+    /// Analytic Jacobian of [`ModelSpec::rhs`].
+    pub jacobian: fn(&Params, &State) -> Jacobian,
+}
+
+impl ParamSpec {
+    /// The valid range in words: `0 to 100`, `> 0`, `≥ 1`.
+    pub fn range_text(&self) -> String {
+        let low = if self.min > 0.0 && self.min < 1e-6 {
+            "> 0".to_string()
+        } else {
+            format!("≥ {}", self.min)
+        };
+        if self.max.is_infinite() {
+            low
+        } else if self.min > 0.0 && self.min < 1e-6 {
+            format!("> 0 and ≤ {}", self.max)
+        } else {
+            format!("{} to {}", self.min, self.max)
+        }
+    }
+}
+
+impl ModelSpec {
+    pub fn n_species(&self) -> usize {
+        self.species.len()
+    }
+
+    /// Index of a parameter by its symbol.
+    pub fn param_index(&self, symbol: &str) -> Option<usize> {
+        self.params.iter().position(|p| p.symbol == symbol)
+    }
+}

@@ -1,0 +1,322 @@
+//! Scenario files: the raw form a user writes, and its validated form.
+//!
+//! Raw input is parsed into [`Scenario`], then [`Scenario::validate`] turns it
+//! into a [`Problem`] with checked values. Nothing downstream sees unchecked
+//! input. Errors name the field path and the reason, e.g.
+//! `params.K: must be > 0, got -5`.
+
+use std::collections::BTreeMap;
+
+use serde::{Deserialize, Serialize};
+
+use crate::model::{ModelSpec, Params, State};
+use crate::models;
+use crate::solve::SolverOptions;
+
+/// Version of the scenario format this build writes and reads.
+pub const FORMAT_VERSION: u32 = 1;
+
+/// A scenario as written in a file. Field names are part of the file format.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Scenario {
+    /// Format version; absent means the current one.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub format: Option<u32>,
+    /// Model key from the catalogue (`lotka_volterra`, …).
+    pub model: String,
+    /// Parameter values by symbol. Optional parameters may be left out.
+    #[serde(default)]
+    pub params: BTreeMap<String, f64>,
+    /// Initial densities in the model's state order.
+    pub initial: Vec<f64>,
+    /// End of the simulated period, in time units.
+    pub t_end: f64,
+    /// Spacing of the output times; defaults to t_end / 500.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub output_step: Option<f64>,
+    /// Names of the species in state order.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub species: Option<Vec<String>>,
+    /// Name of the time unit (`days`, `weeks`, `years`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub time_unit: Option<String>,
+    /// Relative tolerance of the integrator.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub rtol: Option<f64>,
+    /// Absolute tolerance of the integrator (individuals).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub atol: Option<f64>,
+}
+
+/// Why a scenario could not be used.
+#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+pub enum ScenarioError {
+    #[error("not a valid scenario file: {message}")]
+    Syntax { message: String },
+    #[error("model: unknown model \"{key}\" (known: {known})")]
+    UnknownModel { key: String, known: String },
+    #[error("format: this file is format {found}, newer than this build reads ({supported}); update Tussock")]
+    NewerFormat { found: u32, supported: u32 },
+    #[error("params.{symbol}: not a parameter of {model} (its parameters: {known})")]
+    UnknownParam {
+        symbol: String,
+        model: String,
+        known: String,
+    },
+    #[error("{path}: {reason}")]
+    Invalid { path: String, reason: String },
+}
+
+fn invalid(path: impl Into<String>, reason: impl Into<String>) -> ScenarioError {
+    ScenarioError::Invalid {
+        path: path.into(),
+        reason: reason.into(),
+    }
+}
+
+/// A checked scenario, ready to solve.
+#[derive(Clone, Debug)]
+pub struct Problem {
+    pub model: &'static ModelSpec,
+    pub params: Params,
+    pub initial: State,
+    pub t_end: f64,
+    pub output_step: f64,
+    pub species: Vec<String>,
+    pub time_unit: String,
+    pub solver: SolverOptions,
+}
+
+/// Largest horizon accepted, in time units.
+pub const MAX_T_END: f64 = 1e6;
+/// Most output points a run may ask for.
+pub const MAX_OUTPUT_POINTS: f64 = 1e6;
+/// Largest initial density accepted.
+pub const MAX_DENSITY: f64 = 1e12;
+
+impl Scenario {
+    /// Parse a scenario from JSON text.
+    pub fn from_json(text: &str) -> Result<Scenario, ScenarioError> {
+        serde_json::from_str(text).map_err(|e| ScenarioError::Syntax {
+            message: e.to_string(),
+        })
+    }
+
+    pub fn to_json_pretty(&self) -> String {
+        // Serializing plain data with string keys cannot fail.
+        serde_json::to_string_pretty(self).unwrap_or_default()
+    }
+
+    /// A scenario with a model's defaults.
+    pub fn with_defaults(model: &ModelSpec, initial: Vec<f64>, t_end: f64) -> Scenario {
+        let params = model
+            .params
+            .iter()
+            .filter(|p| !p.optional)
+            .map(|p| (p.symbol.to_string(), p.default))
+            .collect();
+        Scenario {
+            format: Some(FORMAT_VERSION),
+            model: model.key.to_string(),
+            params,
+            initial,
+            t_end,
+            output_step: None,
+            species: None,
+            time_unit: None,
+            rtol: None,
+            atol: None,
+        }
+    }
+
+    /// Check every field and build a [`Problem`]. The first problem found is
+    /// reported.
+    pub fn validate(&self) -> Result<Problem, ScenarioError> {
+        if let Some(found) = self.format {
+            if found > FORMAT_VERSION {
+                return Err(ScenarioError::NewerFormat {
+                    found,
+                    supported: FORMAT_VERSION,
+                });
+            }
+        }
+        let model = models::find(&self.model).ok_or_else(|| ScenarioError::UnknownModel {
+            key: self.model.clone(),
+            known: models::MODELS
+                .iter()
+                .map(|m| m.key)
+                .collect::<Vec<_>>()
+                .join(", "),
+        })?;
+        let params = validate_params(model, &self.params)?;
+
+        let n = model.n_species();
+        if self.initial.len() != n {
+            return Err(invalid(
+                "initial",
+                format!(
+                    "{} needs {n} initial densities ({}), got {}",
+                    model.key,
+                    model.species.join(", "),
+                    self.initial.len()
+                ),
+            ));
+        }
+        let mut initial = State::zeros();
+        for (i, &x) in self.initial.iter().enumerate() {
+            check_range(&format!("initial[{i}]"), x, 0.0, MAX_DENSITY)?;
+            initial[i] = x;
+        }
+
+        if !self.t_end.is_finite() || self.t_end <= 0.0 {
+            return Err(invalid(
+                "t_end",
+                format!("must be a positive number, got {}", self.t_end),
+            ));
+        }
+        if self.t_end > MAX_T_END {
+            return Err(invalid(
+                "t_end",
+                format!("must be at most {MAX_T_END}, got {}", self.t_end),
+            ));
+        }
+        let output_step = match self.output_step {
+            None => self.t_end / 500.0,
+            Some(dt) => {
+                if !dt.is_finite() || dt <= 0.0 {
+                    return Err(invalid(
+                        "output_step",
+                        format!("must be a positive number, got {dt}"),
+                    ));
+                }
+                if self.t_end / dt > MAX_OUTPUT_POINTS {
+                    return Err(invalid(
+                        "output_step",
+                        format!(
+                            "gives {:.0} output points; at most {MAX_OUTPUT_POINTS} are allowed",
+                            self.t_end / dt
+                        ),
+                    ));
+                }
+                dt
+            }
+        };
+
+        let species = match &self.species {
+            None => model.species.iter().map(|s| s.to_string()).collect(),
+            Some(names) => {
+                if names.len() != n {
+                    return Err(invalid(
+                        "species",
+                        format!("{} has {n} species, got {} names", model.key, names.len()),
+                    ));
+                }
+                for (i, name) in names.iter().enumerate() {
+                    if name.trim().is_empty() {
+                        return Err(invalid(format!("species[{i}]"), "must not be empty"));
+                    }
+                    if name.chars().count() > 80 {
+                        return Err(invalid(
+                            format!("species[{i}]"),
+                            "must be at most 80 characters",
+                        ));
+                    }
+                }
+                names.clone()
+            }
+        };
+        let time_unit = self.time_unit.clone().unwrap_or_else(|| "days".to_string());
+        if time_unit.trim().is_empty() {
+            return Err(invalid("time_unit", "must not be empty"));
+        }
+
+        let defaults = SolverOptions::default();
+        let rtol = self.rtol.unwrap_or(defaults.rtol);
+        check_range("rtol", rtol, 1e-14, 0.1)?;
+        let atol = self.atol.unwrap_or(defaults.atol);
+        check_range("atol", atol, 1e-14, 1e3)?;
+
+        Ok(Problem {
+            model,
+            params,
+            initial,
+            t_end: self.t_end,
+            output_step,
+            species,
+            time_unit,
+            solver: SolverOptions {
+                rtol,
+                atol,
+                ..defaults
+            },
+        })
+    }
+}
+
+fn validate_params(
+    model: &ModelSpec,
+    given: &BTreeMap<String, f64>,
+) -> Result<Params, ScenarioError> {
+    for symbol in given.keys() {
+        if model.param_index(symbol).is_none() {
+            return Err(ScenarioError::UnknownParam {
+                symbol: symbol.clone(),
+                model: model.key.to_string(),
+                known: model
+                    .params
+                    .iter()
+                    .map(|p| p.symbol)
+                    .collect::<Vec<_>>()
+                    .join(", "),
+            });
+        }
+    }
+    let mut params = Params::defaults(model);
+    for (i, spec) in model.params.iter().enumerate() {
+        match given.get(spec.symbol) {
+            Some(&value) => {
+                check_range(
+                    &format!("params.{}", spec.symbol),
+                    value,
+                    spec.min,
+                    spec.max,
+                )?;
+                params[i] = value;
+            }
+            None if spec.optional => {}
+            None => {
+                return Err(invalid(
+                    format!("params.{}", spec.symbol),
+                    format!("missing ({}, {})", spec.name, spec.help),
+                ))
+            }
+        }
+    }
+    Ok(params)
+}
+
+/// Check that `value` is a finite number in `[min, max]`; an infinite `max`
+/// means no upper limit.
+pub fn check_range(path: &str, value: f64, min: f64, max: f64) -> Result<(), ScenarioError> {
+    if !value.is_finite() {
+        return Err(invalid(
+            path,
+            format!("must be a finite number, got {value}"),
+        ));
+    }
+    if value < min {
+        let reason = if min == 0.0 {
+            format!("must be ≥ 0, got {value}")
+        } else if min > 0.0 && min < 1e-6 {
+            format!("must be > 0, got {value}")
+        } else {
+            format!("must be ≥ {min}, got {value}")
+        };
+        return Err(invalid(path, reason));
+    }
+    if value > max {
+        return Err(invalid(path, format!("must be ≤ {max}, got {value}")));
+    }
+    Ok(())
+}

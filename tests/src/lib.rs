@@ -1,0 +1,1 @@
+//! Tests live in `tests/`; this crate has no library code.

@@ -1,0 +1,336 @@
+//! The app in a real browser: headless Chromium driven through ChromeDriver.
+//!
+//! These tests need the release build in `dist/` (or `TUSSOCK_DIST`) and
+//! Debian's chromium and chromium-driver; `scripts/test` provides both and runs
+//! them with `--ignored`. Screenshots go to `tests/artifacts/`.
+
+use std::path::{Path, PathBuf};
+use std::process::{Child, Command, Stdio};
+use std::time::{Duration, Instant};
+
+use fantoccini::wd::WebDriverCompatibleCommand;
+use fantoccini::{Client, ClientBuilder, Locator};
+use serde_json::json;
+
+const CHROMIUM: &str = "/usr/bin/chromium";
+const CHROMEDRIVER: &str = "/usr/bin/chromedriver";
+
+fn dist_dir() -> PathBuf {
+    let dir = std::env::var_os("TUSSOCK_DIST")
+        .map(PathBuf::from)
+        .unwrap_or_else(|| Path::new(env!("CARGO_MANIFEST_DIR")).join("../dist"));
+    assert!(
+        dir.join("index.html").is_file(),
+        "no app build at {} (run scripts/test, which builds it)",
+        dir.display()
+    );
+    dir
+}
+
+fn content_type(path: &Path) -> &'static str {
+    match path.extension().and_then(|e| e.to_str()) {
+        Some("html") => "text/html; charset=utf-8",
+        Some("js") => "text/javascript; charset=utf-8",
+        Some("wasm") => "application/wasm",
+        Some("css") => "text/css; charset=utf-8",
+        Some("json") => "application/json",
+        Some("png") => "image/png",
+        Some("svg") => "image/svg+xml",
+        _ => "application/octet-stream",
+    }
+}
+
+/// Serve `dir` on a free loopback port from a background thread.
+fn serve_static(dir: PathBuf) -> u16 {
+    let server = tiny_http::Server::http("127.0.0.1:0").expect("bind a loopback port");
+    let port = server.server_addr().to_ip().expect("an IP address").port();
+    std::thread::spawn(move || {
+        for request in server.incoming_requests() {
+            let path = request
+                .url()
+                .split(['?', '#'])
+                .next()
+                .unwrap_or("/")
+                .to_string();
+            let relative = path.trim_start_matches('/');
+            let relative = if relative.is_empty() {
+                "index.html"
+            } else {
+                relative
+            };
+            let file = dir.join(relative);
+            let response = if relative.split('/').any(|part| part == "..") || !file.is_file() {
+                tiny_http::Response::from_string("not found")
+                    .with_status_code(404)
+                    .boxed()
+            } else {
+                let bytes = std::fs::read(&file).unwrap_or_default();
+                let header = tiny_http::Header::from_bytes("Content-Type", content_type(&file))
+                    .expect("a valid header");
+                tiny_http::Response::from_data(bytes)
+                    .with_header(header)
+                    .boxed()
+            };
+            let _ = request.respond(response);
+        }
+    });
+    port
+}
+
+fn free_port() -> u16 {
+    std::net::TcpListener::bind("127.0.0.1:0")
+        .and_then(|l| l.local_addr())
+        .map(|a| a.port())
+        .expect("a free port")
+}
+
+/// Chromium's console, read through ChromeDriver's log endpoint.
+#[derive(Debug)]
+struct BrowserLog;
+
+impl WebDriverCompatibleCommand for BrowserLog {
+    fn endpoint(
+        &self,
+        base: &url::Url,
+        session: Option<&str>,
+    ) -> Result<url::Url, url::ParseError> {
+        base.join(&format!("session/{}/se/log", session.unwrap_or_default()))
+    }
+    fn method_and_body(&self, _url: &url::Url) -> (http::Method, Option<String>) {
+        (
+            http::Method::POST,
+            Some(json!({"type": "browser"}).to_string()),
+        )
+    }
+}
+
+struct Browser {
+    client: Client,
+    driver: Child,
+    base_url: String,
+    _profile: TempDir,
+}
+
+struct TempDir(PathBuf);
+
+impl Drop for TempDir {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.0);
+    }
+}
+
+impl Browser {
+    async fn start() -> Browser {
+        let dist = dist_dir();
+        let app_port = serve_static(dist);
+        let driver_port = free_port();
+        let driver = Command::new(CHROMEDRIVER)
+            .arg(format!("--port={driver_port}"))
+            .stdout(Stdio::null())
+            .stderr(Stdio::null())
+            .spawn()
+            .expect("start chromedriver (install chromium-driver)");
+        let profile = std::env::temp_dir().join(format!("tussock-chromium-{driver_port}"));
+        let capabilities = json!({
+            "goog:chromeOptions": {
+                "binary": CHROMIUM,
+                "args": [
+                    "--headless", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage",
+                    "--disable-background-networking", "--disable-component-update",
+                    "--disable-sync", "--no-first-run", "--disable-quic",
+                    "--window-size=1280,1000",
+                    format!("--user-data-dir={}", profile.display()),
+                ]
+            },
+            "goog:loggingPrefs": {"browser": "ALL"}
+        });
+        let capabilities = capabilities.as_object().cloned().unwrap_or_default();
+        let webdriver = format!("http://127.0.0.1:{driver_port}");
+        let deadline = Instant::now() + Duration::from_secs(20);
+        let client = loop {
+            match ClientBuilder::rustls()
+                .expect("rustls client")
+                .capabilities(capabilities.clone())
+                .connect(&webdriver)
+                .await
+            {
+                Ok(c) => break c,
+                Err(e) if Instant::now() < deadline => {
+                    let _ = e;
+                    tokio::time::sleep(Duration::from_millis(200)).await;
+                }
+                Err(e) => panic!("could not start a Chromium session: {e}"),
+            }
+        };
+        Browser {
+            client,
+            driver,
+            base_url: format!("http://127.0.0.1:{app_port}/"),
+            _profile: TempDir(profile),
+        }
+    }
+
+    async fn open_app(&self) {
+        self.client
+            .goto(&self.base_url)
+            .await
+            .expect("open the app");
+        self.client
+            .wait()
+            .at_most(Duration::from_secs(30))
+            .for_element(Locator::Css("#chart-phase"))
+            .await
+            .expect("the app renders its charts");
+        self.settle().await;
+    }
+
+    /// Let the page finish pending work (effects run after paint).
+    async fn settle(&self) {
+        self.client
+            .execute_async(
+                "const done = arguments[0]; requestAnimationFrame(() => requestAnimationFrame(() => done(true)));",
+                vec![],
+            )
+            .await
+            .expect("page responds");
+    }
+
+    /// Non-white pixels and a checksum of a canvas, read back from the page.
+    async fn canvas(&self, id: &str) -> (u64, u64) {
+        let script = r#"
+            const c = document.getElementById(arguments[0]);
+            if (!c || c.width === 0 || c.height === 0) return [0, 0];
+            const d = c.getContext('2d').getImageData(0, 0, c.width, c.height).data;
+            let ink = 0, sum = 0;
+            for (let i = 0; i < d.length; i += 4) {
+                if (d[i] < 250 || d[i + 1] < 250 || d[i + 2] < 250) ink++;
+                sum = (sum * 31 + d[i] + 7 * d[i + 1] + 13 * d[i + 2]) % 1000000007;
+            }
+            return [ink, sum];
+        "#;
+        let v = self
+            .client
+            .execute(script, vec![json!(id)])
+            .await
+            .expect("read canvas pixels");
+        (v[0].as_u64().unwrap_or(0), v[1].as_u64().unwrap_or(0))
+    }
+
+    /// Replace the text of an input by typing, as a user would.
+    async fn type_into(&self, css: &str, text: &str) {
+        let field = self
+            .client
+            .find(Locator::Css(css))
+            .await
+            .expect("find the field");
+        field.click().await.expect("focus the field");
+        // Ctrl+A, Backspace, then the new text: each key fires an input event.
+        field
+            .send_keys("\u{E009}a\u{E000}\u{E003}")
+            .await
+            .expect("clear the field");
+        field.send_keys(text).await.expect("type into the field");
+        self.settle().await;
+    }
+
+    async fn text_of(&self, css: &str) -> String {
+        let el = self
+            .client
+            .find(Locator::Css(css))
+            .await
+            .expect("find the element");
+        el.text().await.expect("read its text")
+    }
+
+    /// Console messages of level SEVERE (errors and uncaught exceptions).
+    async fn console_errors(&self) -> Vec<String> {
+        let log = self
+            .client
+            .issue_cmd(BrowserLog)
+            .await
+            .expect("read the browser log");
+        log.as_array()
+            .map(|entries| {
+                entries
+                    .iter()
+                    .filter(|e| e["level"] == "SEVERE")
+                    .map(|e| e["message"].as_str().unwrap_or_default().to_string())
+                    .collect()
+            })
+            .unwrap_or_default()
+    }
+
+    async fn screenshot(&self, name: &str) {
+        let png = self.client.screenshot().await.expect("take a screenshot");
+        let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("artifacts");
+        std::fs::create_dir_all(&dir).expect("create tests/artifacts");
+        std::fs::write(dir.join(format!("{name}.png")), png).expect("save the screenshot");
+    }
+
+    async fn close(mut self) {
+        let _ = self.client.close().await;
+        let _ = self.driver.kill();
+        let _ = self.driver.wait();
+    }
+}
+
+const CHARTS: [&str; 2] = ["chart-time", "chart-phase"];
+
+#[tokio::test]
+#[ignore = "needs the app build and Chromium; run scripts/test"]
+async fn page_loads_and_draws_both_charts_without_console_errors() {
+    let b = Browser::start().await;
+    b.open_app().await;
+    for id in CHARTS {
+        let (ink, _) = b.canvas(id).await;
+        assert!(ink > 1000, "{id} is blank ({ink} non-white pixels)");
+    }
+    b.screenshot("loaded").await;
+    let errors = b.console_errors().await;
+    assert!(errors.is_empty(), "console errors: {errors:?}");
+    b.close().await;
+}
+
+#[tokio::test]
+#[ignore = "needs the app build and Chromium; run scripts/test"]
+async fn changing_a_parameter_redraws_both_charts() {
+    let b = Browser::start().await;
+    b.open_app().await;
+    let before = [b.canvas(CHARTS[0]).await, b.canvas(CHARTS[1]).await];
+    b.type_into("#param-r", "0.6").await;
+    let after = [b.canvas(CHARTS[0]).await, b.canvas(CHARTS[1]).await];
+    for i in 0..2 {
+        assert_ne!(before[i].1, after[i].1, "{} did not change", CHARTS[i]);
+        assert!(after[i].0 > 1000, "{} is blank after the change", CHARTS[i]);
+    }
+    b.screenshot("after-change").await;
+    let errors = b.console_errors().await;
+    assert!(errors.is_empty(), "console errors: {errors:?}");
+    b.close().await;
+}
+
+#[tokio::test]
+#[ignore = "needs the app build and Chromium; run scripts/test"]
+async fn bad_input_shows_a_message_and_keeps_the_charts() {
+    let b = Browser::start().await;
+    b.open_app().await;
+    let before = [b.canvas(CHARTS[0]).await, b.canvas(CHARTS[1]).await];
+    for (text, expected) in [
+        ("abc", "is not a number"),
+        ("-2", "must be ≥ 0"),
+        ("", "enter a number"),
+    ] {
+        b.type_into("#param-m", text).await;
+        let message = b.text_of("#param-m-message").await;
+        assert!(
+            message.contains(expected),
+            "for {text:?} the message was {message:?}"
+        );
+        let after = [b.canvas(CHARTS[0]).await, b.canvas(CHARTS[1]).await];
+        assert_eq!(before, after, "charts changed on bad input {text:?}");
+    }
+    b.screenshot("bad-input").await;
+    let errors = b.console_errors().await;
+    assert!(errors.is_empty(), "console errors: {errors:?}");
+    b.close().await;
+}
