@@ -8,8 +8,9 @@ use std::process::ExitCode;
 
 use anyhow::{Context, Result};
 use clap::{Parser, Subcommand};
+use tussock_core::analysis::{self, LongRunKind};
 use tussock_core::models::MODELS;
-use tussock_core::{solve, Scenario, Trajectory};
+use tussock_core::{solve, Problem, Scenario, Trajectory};
 
 #[derive(Parser)]
 #[command(
@@ -32,6 +33,14 @@ enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Find equilibria and their stability, the model's verdict and the long-run behaviour.
+    Analyze {
+        /// Scenario file (JSON).
+        file: PathBuf,
+        /// Write one JSON object instead of a readable report.
+        #[arg(long)]
+        json: bool,
+    },
     /// List the models and their parameters.
     Models,
 }
@@ -40,6 +49,7 @@ fn main() -> ExitCode {
     let cli = Cli::parse();
     let outcome = match cli.command {
         Command::Run { file, json } => run(&file, json),
+        Command::Analyze { file, json } => analyze(&file, json),
         Command::Models => models(),
     };
     match outcome {
@@ -67,11 +77,15 @@ fn load(file: &Path) -> Result<Scenario> {
     Scenario::from_json(&text).with_context(|| file.display().to_string())
 }
 
-fn run(file: &Path, json: bool) -> Result<()> {
+fn load_problem(file: &Path) -> Result<Problem> {
     let scenario = load(file)?;
-    let problem = scenario
+    scenario
         .validate()
-        .with_context(|| file.display().to_string())?;
+        .with_context(|| file.display().to_string())
+}
+
+fn run(file: &Path, json: bool) -> Result<()> {
+    let problem = load_problem(file)?;
     let trajectory = solve(&problem);
     let stdout = std::io::stdout();
     let mut out = std::io::BufWriter::new(stdout.lock());
@@ -138,10 +152,122 @@ fn trajectory_json(
     })
 }
 
+fn analyze(file: &Path, json: bool) -> Result<()> {
+    let problem = load_problem(file)?;
+    let report = analysis::analyze(&problem);
+    if json {
+        let value = serde_json::json!({
+            "equilibria": report.equilibria.iter().map(|e| serde_json::json!({
+                "state": e.state,
+                "eigenvalues": e.eigenvalues.iter().map(|&(re, im)| [re, im]).collect::<Vec<_>>(),
+                "stability": e.stability,
+                "feasible": e.feasible,
+            })).collect::<Vec<_>>(),
+            "outcome": report.outcome.as_ref().map(|o| o.text.clone()),
+            "outcome_kind": report.outcome.as_ref().map(|o| o.kind),
+            "long_run": {
+                "kind": report.long_run.kind,
+                "period": report.long_run.period,
+                "min": report.long_run.min,
+                "max": report.long_run.max,
+                "extinct": report.long_run.extinct,
+                "window": [report.long_run.window.0, report.long_run.window.1],
+            },
+        });
+        println!("{value}");
+        return Ok(());
+    }
+    let names = &problem.species;
+    let unit = &problem.time_unit;
+    println!("{} — {}", problem.model.title, names.join(" and "));
+    println!("Equilibria:");
+    for e in &report.equilibria {
+        let state: Vec<String> = e
+            .state
+            .iter()
+            .zip(names)
+            .map(|(v, s)| format!("{s} {v:.6}"))
+            .collect();
+        let eigs: Vec<String> = e
+            .eigenvalues
+            .iter()
+            .map(|&(re, im)| {
+                if im == 0.0 {
+                    format!("{re:.6}")
+                } else {
+                    format!(
+                        "{re:.6} {} {:.6}i",
+                        if im < 0.0 { "−" } else { "+" },
+                        im.abs()
+                    )
+                }
+            })
+            .collect();
+        println!(
+            "  {}: {}; eigenvalues {}{}",
+            state.join(", "),
+            e.stability.label(),
+            eigs.join(", "),
+            if e.feasible {
+                ""
+            } else {
+                " (infeasible: a negative density)"
+            }
+        );
+    }
+    if let Some(o) = &report.outcome {
+        println!("Verdict: {}", o.text);
+    }
+    let lr = &report.long_run;
+    let ranges: Vec<String> = names
+        .iter()
+        .enumerate()
+        .map(|(i, s)| format!("{s} {:.4} to {:.4}", lr.min[i], lr.max[i]))
+        .collect();
+    let what = match lr.kind {
+        LongRunKind::Equilibrium => "settles to an equilibrium".to_string(),
+        LongRunKind::Cycle => format!(
+            "cycles with period {:.4} {unit}",
+            lr.period.unwrap_or(f64::NAN)
+        ),
+        LongRunKind::Extinction => {
+            let gone: Vec<&str> = names
+                .iter()
+                .zip(&lr.extinct)
+                .filter(|(_, &x)| x)
+                .map(|(s, _)| s.as_str())
+                .collect();
+            format!("{} die(s) out", gone.join(" and "))
+        }
+        LongRunKind::Unbounded => "grows without bound".to_string(),
+        LongRunKind::Failed => lr.stop.describe(names, unit),
+    };
+    println!(
+        "Long run (t = {:.0} to {:.0} {unit}): {what}; {}.",
+        lr.window.0,
+        lr.window.1,
+        ranges.join(", ")
+    );
+    Ok(())
+}
+
 fn models() -> Result<()> {
     for model in MODELS {
         println!("{} — {} ({})", model.key, model.title, model.group.label());
         println!("  state order: {}", model.species.join(", "));
+        if let Some(choice) = model.choice {
+            let options: Vec<String> = choice
+                .options
+                .iter()
+                .map(|(k, label)| format!("{k} ({label})"))
+                .collect();
+            println!(
+                "  {}: {}; default {}",
+                choice.key,
+                options.join(", "),
+                choice.options[choice.default].0
+            );
+        }
         for p in model.params {
             let range = p.range_text();
             let default = if p.default.is_infinite() {

@@ -8,6 +8,7 @@
 //! [`scenario::Problem`]; [`solve::solve`] integrates it and returns a
 //! [`solve::Trajectory`] that always says why it stopped.
 
+pub mod analysis;
 pub mod model;
 pub mod models;
 pub mod scenario;
@@ -15,4 +16,4 @@ pub mod solve;
 
 pub use model::{Group, ModelSpec, ParamSpec, Params, State, Unit};
 pub use scenario::{Problem, Scenario, ScenarioError};
-pub use solve::{solve, SolverOptions, StepStats, StopReason, Trajectory};
+pub use solve::{solve, solve_with, SolverOptions, StepStats, StopReason, Trajectory};

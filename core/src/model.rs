@@ -16,11 +16,16 @@ pub type Jacobian = nalgebra::Matrix2<f64>;
 /// Largest number of parameters any model has.
 pub const MAX_PARAMS: usize = 12;
 
-/// Parameter values of one model, in the order of its [`ModelSpec::params`].
-/// A fixed array keeps right-hand-side evaluations free of heap allocation.
+/// Parameter values of one model, in the order of its [`ModelSpec::params`],
+/// the chosen variant (e.g. the functional response) and a constant harvest
+/// (positive) or stocking (negative) rate per species, in individuals per
+/// time unit. A fixed array keeps evaluations free of heap allocation.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Params {
     pub values: SVector<f64, MAX_PARAMS>,
+    /// Index into the model's [`ChoiceSpec::options`]; 0 when it has none.
+    pub choice: usize,
+    pub harvest: State,
 }
 
 impl Params {
@@ -30,7 +35,11 @@ impl Params {
         for (i, p) in model.params.iter().enumerate() {
             values[i] = p.default;
         }
-        Params { values }
+        Params {
+            values,
+            choice: model.choice.map_or(0, |c| c.default),
+            harvest: State::zeros(),
+        }
     }
 }
 
@@ -74,6 +83,10 @@ pub enum Unit {
     PerIndividualPerTime,
     /// individuals (a density or a carrying capacity)
     Individuals,
+    /// individuals per time unit (immigration, harvest)
+    IndividualsPerTime,
+    /// per individual (an interference coefficient)
+    PerIndividual,
     /// a pure number (an efficiency or a competition coefficient)
     Dimensionless,
     /// a duration in time units
@@ -88,6 +101,8 @@ impl Unit {
             Unit::PerTime => format!("per {t}"),
             Unit::PerIndividualPerTime => format!("per individual per {t}"),
             Unit::Individuals => "individuals".to_string(),
+            Unit::IndividualsPerTime => format!("individuals per {t}"),
+            Unit::PerIndividual => "per individual".to_string(),
             Unit::Dimensionless => "dimensionless".to_string(),
             Unit::Time => time_unit.to_string(),
         }
@@ -118,6 +133,28 @@ pub struct ParamSpec {
     pub optional: bool,
 }
 
+/// A named variant of a model chosen in the scenario, such as the
+/// functional response of a predator.
+#[derive(Debug)]
+pub struct ChoiceSpec {
+    /// Key in scenario files (`functional_response`).
+    pub key: &'static str,
+    pub name: &'static str,
+    /// (key in scenario files, label shown to users).
+    pub options: &'static [(&'static str, &'static str)],
+    pub default: usize,
+}
+
+/// A model-specific verdict on the long-run outcome, found from the
+/// parameters alone (e.g. invasion criteria of competition).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Outcome {
+    /// Stable key (`coexistence`, `species_1_excludes_2`, …).
+    pub kind: &'static str,
+    /// The verdict and the criteria behind it, in plain words.
+    pub text: String,
+}
+
 /// Everything Tussock knows about one model.
 #[derive(Debug)]
 pub struct ModelSpec {
@@ -134,13 +171,53 @@ pub struct ModelSpec {
     /// number of species.
     pub species: &'static [&'static str],
     pub params: &'static [ParamSpec],
-    /// Right-hand side dx/dt at state `x` (x is never negative here).
+    pub choice: Option<&'static ChoiceSpec>,
+    /// Right-hand side dx/dt at state `x` without harvest; the solver
+    /// evaluates it at non-negative states only, analysis anywhere.
     pub rhs: fn(&Params, &State) -> State,
-    /// Analytic Jacobian of [`ModelSpec::rhs`].
+    /// Analytic Jacobian of [`ModelSpec::rhs`] (harvest is constant, so it
+    /// is also the Jacobian with harvest).
     pub jacobian: fn(&Params, &State) -> Jacobian,
+    /// Closed-form equilibria of the model without harvest, feasible or
+    /// not; the analysis refines them and searches for more.
+    pub equilibria: fn(&Params) -> Vec<State>,
+    /// Verdict from the parameters alone, where the model has one.
+    pub outcome: fn(&Params) -> Option<Outcome>,
+    /// Checks across parameters that single ranges cannot express; an
+    /// error names the parameter's symbol and the reason.
+    pub check: fn(&Params) -> Result<(), (&'static str, String)>,
 }
 
 impl ParamSpec {
+    /// A required parameter valid in `[min, max]`.
+    pub const fn new(
+        symbol: &'static str,
+        name: &'static str,
+        unit: Unit,
+        default: f64,
+        (min, max): (f64, f64),
+        help: &'static str,
+    ) -> ParamSpec {
+        ParamSpec {
+            symbol,
+            name,
+            unit,
+            default,
+            min,
+            max,
+            help,
+            optional: false,
+        }
+    }
+
+    /// The same parameter, but one a scenario may leave out.
+    pub const fn or_default(self) -> ParamSpec {
+        ParamSpec {
+            optional: true,
+            ..self
+        }
+    }
+
     /// The valid range in words: `0 to 100`, `> 0`, `≥ 1`.
     pub fn range_text(&self) -> String {
         let low = if self.min > 0.0 && self.min < 1e-6 {
@@ -161,6 +238,15 @@ impl ParamSpec {
 impl ModelSpec {
     pub fn n_species(&self) -> usize {
         self.species.len()
+    }
+
+    /// dx/dt including the constant harvest or stocking.
+    pub fn derivative(&self, p: &Params, x: &State) -> State {
+        let mut dx = (self.rhs)(p, x);
+        for i in 0..self.n_species() {
+            dx[i] -= p.harvest[i];
+        }
+        dx
     }
 
     /// Index of a parameter by its symbol.

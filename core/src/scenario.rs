@@ -28,6 +28,14 @@ pub struct Scenario {
     /// Parameter values by symbol. Optional parameters may be left out.
     #[serde(default)]
     pub params: BTreeMap<String, f64>,
+    /// Variant of the model, for models that have one (the predator's
+    /// functional response of `rosenzweig_macarthur`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub functional_response: Option<String>,
+    /// Constant harvest (positive) or stocking (negative) per species, in
+    /// individuals per time unit, in state order.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub harvest: Option<Vec<f64>>,
     /// Initial densities in the model's state order.
     pub initial: Vec<f64>,
     /// End of the simulated period, in time units.
@@ -120,6 +128,8 @@ impl Scenario {
             format: Some(FORMAT_VERSION),
             model: model.key.to_string(),
             params,
+            functional_response: None,
+            harvest: None,
             initial,
             t_end,
             output_step: None,
@@ -149,9 +159,28 @@ impl Scenario {
                 .collect::<Vec<_>>()
                 .join(", "),
         })?;
-        let params = validate_params(model, &self.params)?;
-
+        let mut params = validate_params(model, &self.params)?;
         let n = model.n_species();
+        params.choice = validate_choice(model, self.functional_response.as_deref())?;
+        if let Some(harvest) = &self.harvest {
+            if harvest.len() != n {
+                return Err(invalid(
+                    "harvest",
+                    format!(
+                        "{} has {n} species, got {} harvest rates",
+                        model.key,
+                        harvest.len()
+                    ),
+                ));
+            }
+            for (i, &h) in harvest.iter().enumerate() {
+                check_range(&format!("harvest[{i}]"), h, -MAX_DENSITY, MAX_DENSITY)?;
+                params.harvest[i] = h;
+            }
+        }
+        (model.check)(&params)
+            .map_err(|(symbol, reason)| invalid(format!("params.{symbol}"), reason))?;
+
         if self.initial.len() != n {
             return Err(invalid(
                 "initial",
@@ -251,6 +280,35 @@ impl Scenario {
                 ..defaults
             },
         })
+    }
+}
+
+fn validate_choice(model: &ModelSpec, given: Option<&str>) -> Result<usize, ScenarioError> {
+    match (model.choice, given) {
+        (None, None) => Ok(0),
+        (Some(choice), None) => Ok(choice.default),
+        (None, Some(_)) => Err(invalid(
+            "functional_response",
+            format!("{} has no functional-response choice", model.key),
+        )),
+        (Some(choice), Some(key)) => choice
+            .options
+            .iter()
+            .position(|(k, _)| *k == key)
+            .ok_or_else(|| {
+                invalid(
+                    choice.key,
+                    format!(
+                        "unknown choice \"{key}\" (choose one of: {})",
+                        choice
+                            .options
+                            .iter()
+                            .map(|(k, _)| *k)
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ),
+                )
+            }),
     }
 }
 

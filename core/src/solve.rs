@@ -2,7 +2,9 @@
 //! 5(4), "RK45", from `ode_solvers`).
 //!
 //! Populations never go negative: the right-hand side is evaluated at the
-//! state clamped to zero, and reported states are clamped too. A run that
+//! state clamped to zero, a species at zero is not driven below it (a
+//! harvested species that reaches zero stays there unless immigration or
+//! stocking brings it back), and reported states are clamped too. A run that
 //! blows up, produces a non-finite number or cannot make progress stops and
 //! says so in [`Trajectory::stop`]; the times computed until then are kept.
 
@@ -126,7 +128,14 @@ impl System<f64, State> for &Rhs<'_> {
         self.evaluations
             .set(self.evaluations.get().saturating_add(1));
         let clamped = x.map(|v| v.max(0.0));
-        *dx = (self.model.rhs)(self.params, &clamped);
+        *dx = self.model.derivative(self.params, &clamped);
+        // A species at zero cannot be harvested further: zero is absorbing
+        // unless something (immigration, stocking) adds individuals.
+        for i in 0..self.model.n_species() {
+            if clamped[i] == 0.0 && dx[i] < 0.0 {
+                dx[i] = 0.0;
+            }
+        }
     }
 
     fn solout(&mut self, t: f64, x: &State, _dx: &State) -> bool {

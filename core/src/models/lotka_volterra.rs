@@ -24,59 +24,18 @@ pub static SPEC: ModelSpec = ModelSpec {
     equations: "dN/dt = r·N·(1 − N/K) − a·N·P\ndP/dt = e·a·N·P − m·P",
     species: &["prey", "predator"],
     params: &[
-        ParamSpec {
-            symbol: "r",
-            name: "prey growth rate",
-            unit: Unit::PerTime,
-            default: 0.3,
-            min: 0.0,
-            max: 100.0,
-            help: "Per-capita growth rate of the prey without predators.",
-            optional: false,
-        },
-        ParamSpec {
-            symbol: "a",
-            name: "attack rate",
-            unit: Unit::PerIndividualPerTime,
-            default: 0.02,
-            min: 0.0,
-            max: 100.0,
-            help: "Prey killed per predator per prey individual per time unit.",
-            optional: false,
-        },
-        ParamSpec {
-            symbol: "e",
-            name: "conversion efficiency",
-            unit: Unit::Dimensionless,
-            default: 0.25,
-            min: 0.0,
-            max: 10.0,
-            help: "New predators produced per prey eaten.",
-            optional: false,
-        },
-        ParamSpec {
-            symbol: "m",
-            name: "predator mortality",
-            unit: Unit::PerTime,
-            default: 0.2,
-            min: 0.0,
-            max: 100.0,
-            help: "Per-capita death rate of predators.",
-            optional: false,
-        },
-        ParamSpec {
-            symbol: "K",
-            name: "prey carrying capacity",
-            unit: Unit::Individuals,
-            default: f64::INFINITY,
-            min: 1e-9,
-            max: f64::INFINITY,
-            help: "Prey density at which prey growth stops; leave out for unlimited growth.",
-            optional: true,
-        },
+        ParamSpec::new("r", "prey growth rate", Unit::PerTime, 0.3, (0.0, 100.0), "Per-capita growth rate of the prey without predators."),
+        ParamSpec::new("a", "attack rate", Unit::PerIndividualPerTime, 0.02, (0.0, 100.0), "Prey killed per predator per prey individual per time unit."),
+        ParamSpec::new("e", "conversion efficiency", Unit::Dimensionless, 0.25, (0.0, 10.0), "New predators produced per prey eaten."),
+        ParamSpec::new("m", "predator mortality", Unit::PerTime, 0.2, (0.0, 100.0), "Per-capita death rate of predators."),
+        ParamSpec::new("K", "prey carrying capacity", Unit::Individuals, f64::INFINITY, (1e-9, f64::INFINITY), "Prey density at which prey growth stops; leave out for unlimited growth.").or_default(),
     ],
+    choice: None,
     rhs,
     jacobian,
+    equilibria,
+    outcome: super::no_outcome,
+    check: super::no_check,
 };
 
 fn rhs(p: &Params, x: &State) -> State {
@@ -96,4 +55,18 @@ fn jacobian(p: &Params, x: &State) -> Jacobian {
         p[E] * p[A] * pred,
         p[E] * p[A] * n - p[M],
     )
+}
+
+/// (0, 0), (K, 0) when K is finite, and the interior point
+/// N* = m/(e·a), P* = (r/a)(1 − N*/K).
+fn equilibria(p: &Params) -> Vec<State> {
+    let mut out = vec![State::zeros()];
+    if p[K].is_finite() {
+        out.push(State::new(p[K], 0.0));
+    }
+    if p[E] * p[A] > 0.0 && p[A] > 0.0 {
+        let n = p[M] / (p[E] * p[A]);
+        out.push(State::new(n, p[R] / p[A] * (1.0 - n / p[K])));
+    }
+    out
 }

@@ -1,14 +1,34 @@
 //! The model catalogue. Adding a model is one file here plus one line in
 //! [`MODELS`].
 
-use crate::model::ModelSpec;
+use crate::model::{ModelSpec, Outcome, Params};
 
+pub mod competition;
+pub mod exponential;
+pub mod logistic;
 pub mod lotka_volterra;
+pub mod rosenzweig_macarthur;
 
 /// Every model Tussock offers, in the order the app lists them.
-pub static MODELS: &[&ModelSpec] = &[&lotka_volterra::SPEC];
+pub static MODELS: &[&ModelSpec] = &[
+    &lotka_volterra::SPEC,
+    &rosenzweig_macarthur::SPEC,
+    &competition::SPEC,
+    &logistic::SPEC,
+    &exponential::SPEC,
+];
 
 /// The model with this scenario key.
 pub fn find(key: &str) -> Option<&'static ModelSpec> {
     MODELS.iter().copied().find(|m| m.key == key)
+}
+
+/// For models without a verdict from parameters alone.
+pub(crate) fn no_outcome(_: &Params) -> Option<Outcome> {
+    None
+}
+
+/// For models without cross-parameter checks.
+pub(crate) fn no_check(_: &Params) -> Result<(), (&'static str, String)> {
+    Ok(())
 }

@@ -1,0 +1,595 @@
+//! What a model does, beyond one run: equilibria and their stability,
+//! nullclines for the phase plane, and the long-run behaviour found by
+//! simulation after transients.
+
+use std::collections::HashMap;
+
+use serde::Serialize;
+
+use crate::model::{Jacobian, ModelSpec, Outcome, Params, State};
+use crate::scenario::Problem;
+use crate::solve::{solve_with, SolverOptions, StopReason};
+
+/// Linear stability class of an equilibrium, from its eigenvalues.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+pub enum Stability {
+    #[serde(rename = "stable node")]
+    StableNode,
+    #[serde(rename = "unstable node")]
+    UnstableNode,
+    #[serde(rename = "stable spiral")]
+    StableSpiral,
+    #[serde(rename = "unstable spiral")]
+    UnstableSpiral,
+    #[serde(rename = "saddle")]
+    Saddle,
+    #[serde(rename = "center")]
+    Center,
+    #[serde(rename = "non-hyperbolic")]
+    NonHyperbolic,
+}
+
+impl Stability {
+    pub fn label(self) -> &'static str {
+        match self {
+            Stability::StableNode => "stable node",
+            Stability::UnstableNode => "unstable node",
+            Stability::StableSpiral => "stable spiral",
+            Stability::UnstableSpiral => "unstable spiral",
+            Stability::Saddle => "saddle",
+            Stability::Center => "center",
+            Stability::NonHyperbolic => "non-hyperbolic",
+        }
+    }
+
+    pub fn is_stable(self) -> bool {
+        matches!(self, Stability::StableNode | Stability::StableSpiral)
+    }
+}
+
+/// An eigenvalue as (real part, imaginary part).
+pub type Eigenvalue = (f64, f64);
+
+/// One equilibrium with its linear stability.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Equilibrium {
+    /// Densities in state order (one per species).
+    pub state: Vec<f64>,
+    pub eigenvalues: Vec<Eigenvalue>,
+    pub stability: Stability,
+    /// All densities non-negative.
+    pub feasible: bool,
+}
+
+/// Eigenvalues of the Jacobian restricted to the first `n` species, in
+/// closed form for 1×1 and 2×2 matrices; sorted by real part, descending.
+pub fn eigenvalues(j: &Jacobian, n: usize) -> Vec<Eigenvalue> {
+    if n == 1 {
+        return vec![(j[(0, 0)], 0.0)];
+    }
+    let tr = j[(0, 0)] + j[(1, 1)];
+    let det = j[(0, 0)] * j[(1, 1)] - j[(0, 1)] * j[(1, 0)];
+    let disc = tr * tr / 4.0 - det;
+    if disc < 0.0 {
+        let im = (-disc).sqrt();
+        vec![(tr / 2.0, im), (tr / 2.0, -im)]
+    } else {
+        // Stable form of the quadratic roots.
+        let s = disc.sqrt();
+        let big = tr / 2.0 + if tr >= 0.0 { s } else { -s };
+        let small = if big != 0.0 { det / big } else { 0.0 };
+        let (a, b) = if big >= small {
+            (big, small)
+        } else {
+            (small, big)
+        };
+        vec![(a, 0.0), (b, 0.0)]
+    }
+}
+
+/// Classify eigenvalues; `scale` is the size of the Jacobian's entries, so
+/// that "zero" means zero relative to the problem.
+pub fn classify(eigs: &[Eigenvalue], scale: f64) -> Stability {
+    let eps = 1e-9 * scale.max(1e-12);
+    let complex = eigs.iter().any(|e| e.1.abs() > eps);
+    if complex {
+        let re = eigs[0].0;
+        return if re.abs() <= eps {
+            Stability::Center
+        } else if re < 0.0 {
+            Stability::StableSpiral
+        } else {
+            Stability::UnstableSpiral
+        };
+    }
+    if eigs.iter().any(|e| e.0.abs() <= eps) {
+        return Stability::NonHyperbolic;
+    }
+    let negative = eigs.iter().filter(|e| e.0 < 0.0).count();
+    if negative == eigs.len() {
+        Stability::StableNode
+    } else if negative == 0 {
+        Stability::UnstableNode
+    } else {
+        Stability::Saddle
+    }
+}
+
+fn norm(x: &State, n: usize) -> f64 {
+    (0..n).map(|i| x[i] * x[i]).sum::<f64>().sqrt()
+}
+
+fn jacobian_scale(j: &Jacobian, n: usize) -> f64 {
+    let mut m: f64 = 0.0;
+    for r in 0..n {
+        for c in 0..n {
+            m = m.max(j[(r, c)].abs());
+        }
+    }
+    m
+}
+
+/// Newton's method on dx/dt = 0 from `start`; None if it does not converge.
+fn newton(model: &ModelSpec, p: &Params, start: State, n: usize) -> Option<State> {
+    let mut x = start;
+    for _ in 0..100 {
+        let f = model.derivative(p, &x);
+        let j = (model.jacobian)(p, &x);
+        let step = if n == 1 {
+            if j[(0, 0)] == 0.0 {
+                return None;
+            }
+            State::new(f[0] / j[(0, 0)], 0.0)
+        } else {
+            j.try_inverse()? * f
+        };
+        if !step.iter().all(|v| v.is_finite()) {
+            return None;
+        }
+        x -= step;
+        if norm(&step, n) <= 1e-13 * (1.0 + norm(&x, n)) {
+            break;
+        }
+    }
+    let f = model.derivative(p, &x);
+    let j = (model.jacobian)(p, &x);
+    let tol = 1e-8 * (1.0 + norm(&x, n)) * jacobian_scale(&j, n).max(1.0);
+    (norm(&f, n) <= tol && x.iter().all(|v| v.is_finite())).then_some(x)
+}
+
+/// All equilibria found: the model's closed forms (when there is no
+/// harvest), then Newton's method from a grid of starts over
+/// [0, 2·scale] in each species, deduplicated. Feasible ones come first.
+pub fn equilibria(model: &ModelSpec, p: &Params, scale: [f64; 2]) -> Vec<Equilibrium> {
+    let n = model.n_species();
+    let mut starts: Vec<State> = (model.equilibria)(p);
+    const STEPS: usize = 12;
+    let grid: Vec<f64> = (0..=STEPS).map(|i| 2.0 * i as f64 / STEPS as f64).collect();
+    for &u in &grid {
+        if n == 1 {
+            starts.push(State::new(u * scale[0], 0.0));
+        } else {
+            for &v in &grid {
+                starts.push(State::new(u * scale[0], v * scale[1]));
+            }
+        }
+    }
+    let mut found: Vec<State> = Vec::new();
+    for start in starts {
+        if let Some(mut x) = newton(model, p, start, n) {
+            for i in 0..n {
+                // Tidy rounding noise around the axes.
+                if x[i].abs() <= 1e-12 * (1.0 + scale[i]) {
+                    x[i] = 0.0;
+                }
+            }
+            let duplicate = found
+                .iter()
+                .any(|y| norm(&(y - x), n) <= 1e-7 * (1.0 + norm(&x, n)));
+            if !duplicate {
+                found.push(x);
+            }
+        }
+    }
+    let mut out: Vec<Equilibrium> = found
+        .into_iter()
+        .map(|x| {
+            let j = (model.jacobian)(p, &x);
+            let eigs = eigenvalues(&j, n);
+            Equilibrium {
+                state: (0..n).map(|i| x[i]).collect(),
+                stability: classify(&eigs, jacobian_scale(&j, n)),
+                eigenvalues: eigs,
+                feasible: (0..n).all(|i| x[i] >= 0.0),
+            }
+        })
+        .collect();
+    out.sort_by(|a, b| {
+        b.feasible.cmp(&a.feasible).then_with(|| {
+            a.state
+                .iter()
+                .sum::<f64>()
+                .total_cmp(&b.state.iter().sum::<f64>())
+        })
+    });
+    out
+}
+
+/// A nullcline: where one species' growth is zero, as polylines.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Nullcline {
+    pub species: usize,
+    pub polylines: Vec<Vec<(f64, f64)>>,
+}
+
+/// Nullclines of a two-species model over [0, x_max] × [0, y_max], traced
+/// by marching squares on an `resolution`² grid. A species whose growth
+/// vanishes at zero density (x_i = 0) gets that axis as a nullcline and its
+/// per-capita growth traced for the rest.
+pub fn nullclines(
+    model: &ModelSpec,
+    p: &Params,
+    x_max: f64,
+    y_max: f64,
+    resolution: usize,
+) -> Vec<Nullcline> {
+    if model.n_species() < 2 || !(x_max > 0.0 && y_max > 0.0) {
+        return Vec::new();
+    }
+    let res = resolution.clamp(8, 1000);
+    (0..2)
+        .map(|i| {
+            // Does growth of species i vanish on its own axis?
+            let on_axis = (0..=4).all(|k| {
+                let other = k as f64 / 4.0 * if i == 0 { y_max } else { x_max };
+                let x = if i == 0 {
+                    State::new(0.0, other)
+                } else {
+                    State::new(other, 0.0)
+                };
+                model.derivative(p, &x)[i] == 0.0
+            });
+            let field = |x: f64, y: f64| {
+                let s = State::new(x, y);
+                let f = model.derivative(p, &s)[i];
+                if on_axis {
+                    f / s[i]
+                } else {
+                    f
+                }
+            };
+            // Start just off the axes so per-capita growth is defined.
+            let x0 = x_max * 1e-9;
+            let y0 = y_max * 1e-9;
+            let mut polylines = march(&field, (x0, x_max), (y0, y_max), res);
+            if on_axis {
+                polylines.push(if i == 0 {
+                    vec![(0.0, 0.0), (0.0, y_max)]
+                } else {
+                    vec![(0.0, 0.0), (x_max, 0.0)]
+                });
+            }
+            Nullcline {
+                species: i,
+                polylines,
+            }
+        })
+        .collect()
+}
+
+/// Marching squares for the zero level of `f`, segments joined into
+/// polylines through shared cell edges.
+fn march(
+    f: &dyn Fn(f64, f64) -> f64,
+    (x0, x1): (f64, f64),
+    (y0, y1): (f64, f64),
+    n: usize,
+) -> Vec<Vec<(f64, f64)>> {
+    let xs: Vec<f64> = (0..=n)
+        .map(|i| x0 + (x1 - x0) * i as f64 / n as f64)
+        .collect();
+    let ys: Vec<f64> = (0..=n)
+        .map(|j| y0 + (y1 - y0) * j as f64 / n as f64)
+        .collect();
+    let mut values = vec![0.0; (n + 1) * (n + 1)];
+    for j in 0..=n {
+        for i in 0..=n {
+            let v = f(xs[i], ys[j]);
+            values[j * (n + 1) + i] = if v.is_finite() { v } else { 0.0 };
+        }
+    }
+    let val = |i: usize, j: usize| values[j * (n + 1) + i];
+    // Edge ids: horizontal edge from node (i, j) is 2·k, vertical is 2·k + 1.
+    let node = |i: usize, j: usize| j * (n + 1) + i;
+    let crossing = |edge: usize| -> Option<(f64, f64)> {
+        let k = edge / 2;
+        let (i, j) = (k % (n + 1), k / (n + 1));
+        let (i2, j2) = if edge % 2 == 0 {
+            (i + 1, j)
+        } else {
+            (i, j + 1)
+        };
+        let (a, b) = (val(i, j), val(i2, j2));
+        if (a > 0.0) == (b > 0.0) {
+            return None;
+        }
+        let t = a / (a - b);
+        Some((xs[i] + t * (xs[i2] - xs[i]), ys[j] + t * (ys[j2] - ys[j])))
+    };
+    let mut segments: Vec<(usize, usize)> = Vec::new();
+    for j in 0..n {
+        for i in 0..n {
+            let edges = [
+                2 * node(i, j),
+                2 * node(i + 1, j) + 1,
+                2 * node(i, j + 1),
+                2 * node(i, j) + 1,
+            ];
+            let cut: Vec<usize> = edges
+                .iter()
+                .copied()
+                .filter(|&e| crossing(e).is_some())
+                .collect();
+            match cut.len() {
+                2 => segments.push((cut[0], cut[1])),
+                // Saddle cell: pair edges by the sign of the centre.
+                4 => {
+                    let centre =
+                        (val(i, j) + val(i + 1, j) + val(i, j + 1) + val(i + 1, j + 1)) / 4.0;
+                    if (centre > 0.0) == (val(i, j) > 0.0) {
+                        segments.push((edges[0], edges[1]));
+                        segments.push((edges[2], edges[3]));
+                    } else {
+                        segments.push((edges[0], edges[3]));
+                        segments.push((edges[1], edges[2]));
+                    }
+                }
+                _ => {}
+            }
+        }
+    }
+    // Join segments into polylines.
+    let mut by_edge: HashMap<usize, Vec<usize>> = HashMap::new();
+    for (s, &(a, b)) in segments.iter().enumerate() {
+        by_edge.entry(a).or_default().push(s);
+        by_edge.entry(b).or_default().push(s);
+    }
+    let mut used = vec![false; segments.len()];
+    let mut lines = Vec::new();
+    for start in 0..segments.len() {
+        if used[start] {
+            continue;
+        }
+        used[start] = true;
+        let (a, b) = segments[start];
+        let mut chain = std::collections::VecDeque::from([a, b]);
+        for forward in [true, false] {
+            loop {
+                let end = if forward {
+                    *chain.back().unwrap_or(&a)
+                } else {
+                    *chain.front().unwrap_or(&a)
+                };
+                let next = by_edge
+                    .get(&end)
+                    .and_then(|list| list.iter().copied().find(|&s| !used[s]));
+                let Some(s) = next else { break };
+                used[s] = true;
+                let (p, q) = segments[s];
+                let other = if p == end { q } else { p };
+                if forward {
+                    chain.push_back(other);
+                } else {
+                    chain.push_front(other);
+                }
+            }
+        }
+        lines.push(chain.into_iter().filter_map(crossing).collect());
+    }
+    lines
+}
+
+/// What the populations do in the long run.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum LongRunKind {
+    Equilibrium,
+    Cycle,
+    Extinction,
+    Unbounded,
+    /// The simulation stopped early for a reason other than growth.
+    Failed,
+}
+
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct LongRun {
+    pub kind: LongRunKind,
+    /// Period of the cycle, in time units.
+    pub period: Option<f64>,
+    /// Smallest and largest density of each species after transients.
+    pub min: Vec<f64>,
+    pub max: Vec<f64>,
+    /// Which species died out.
+    pub extinct: Vec<bool>,
+    /// The window examined, in time units.
+    pub window: (f64, f64),
+    pub stop: StopReason,
+}
+
+/// Density below which a species counts as extinct in the long run.
+pub const EXTINCTION_DENSITY: f64 = 1e-6;
+
+/// Simulate long enough for transients to fade (at least the scenario's
+/// horizon, and 200 of the slowest linear time scales of the feasible
+/// equilibria, at most 1e5 time units), then read the last quarter.
+pub fn long_run(problem: &Problem, equilibria: &[Equilibrium]) -> LongRun {
+    let model = problem.model;
+    let n = model.n_species();
+    let slowest = equilibria
+        .iter()
+        .filter(|e| e.feasible)
+        .flat_map(|e| e.eigenvalues.iter())
+        .map(|&(re, im)| (re * re + im * im).sqrt())
+        .filter(|&m| m > 1e-9)
+        .fold(f64::INFINITY, f64::min);
+    let horizon = if slowest.is_finite() {
+        200.0 / slowest
+    } else {
+        0.0
+    };
+    let t_end = horizon.max(problem.t_end).min(1e5);
+    let options = SolverOptions {
+        rtol: problem.solver.rtol.min(1e-8),
+        atol: problem.solver.atol.min(1e-10),
+        ..problem.solver
+    };
+    let traj = solve_with(
+        model,
+        &problem.params,
+        problem.initial,
+        t_end,
+        t_end / 40_000.0,
+        &options,
+    );
+    let from = 0.75 * t_end;
+    let tail: Vec<(f64, State)> = traj
+        .times
+        .iter()
+        .zip(&traj.states)
+        .filter(|(t, _)| **t >= from)
+        .map(|(t, s)| (*t, *s))
+        .collect();
+    let mut min = vec![f64::INFINITY; n];
+    let mut max = vec![f64::NEG_INFINITY; n];
+    for (_, s) in &tail {
+        for i in 0..n {
+            min[i] = min[i].min(s[i]);
+            max[i] = max[i].max(s[i]);
+        }
+    }
+    let result = |kind, period, min: Vec<f64>, max: Vec<f64>, extinct| LongRun {
+        kind,
+        period,
+        min,
+        max,
+        extinct,
+        window: (from, t_end),
+        stop: traj.stop,
+    };
+    match traj.stop {
+        StopReason::BlewUp { .. } => {
+            return result(LongRunKind::Unbounded, None, min, max, vec![false; n])
+        }
+        StopReason::Finished => {}
+        _ => return result(LongRunKind::Failed, None, min, max, vec![false; n]),
+    }
+    if tail.len() < 8 {
+        return result(LongRunKind::Failed, None, min, max, vec![false; n]);
+    }
+    let extinct: Vec<bool> = (0..n).map(|i| max[i] < EXTINCTION_DENSITY).collect();
+    // Still growing fast at the end: unbounded.
+    let growing = (0..n).any(|i| {
+        let first = tail[0].1[i];
+        let last = tail[tail.len() - 1].1[i];
+        last > 1e3 * first.max(1.0) && tail.windows(2).all(|w| w[1].1[i] >= w[0].1[i])
+    });
+    if growing {
+        return result(LongRunKind::Unbounded, None, min, max, extinct);
+    }
+    // Oscillation: relative range of each surviving species, and whether
+    // it still shrinks from the first to the second half of the window.
+    let half = tail.len() / 2;
+    let range = |part: &[(f64, State)], i: usize| {
+        let (lo, hi) = part
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), (_, s)| {
+                (lo.min(s[i]), hi.max(s[i]))
+            });
+        hi - lo
+    };
+    let lead = (0..n)
+        .filter(|&i| !extinct[i])
+        .max_by(|&a, &b| (range(&tail, a) / max[a]).total_cmp(&(range(&tail, b) / max[b])));
+    let cycling = lead.is_some_and(|i| {
+        let relative = range(&tail, i) / max[i].max(1e-300);
+        let (early, late) = (range(&tail[..half], i), range(&tail[half..], i));
+        relative > 1e-3 && late > 0.9 * early
+    });
+    if cycling {
+        let i = lead.unwrap_or(0);
+        let mean = tail.iter().map(|(_, s)| s[i]).sum::<f64>() / tail.len() as f64;
+        let ups: Vec<f64> = tail
+            .windows(2)
+            .filter(|w| w[0].1[i] < mean && w[1].1[i] >= mean)
+            .map(|w| {
+                let (t0, t1, a, b) = (w[0].0, w[1].0, w[0].1[i], w[1].1[i]);
+                t0 + (mean - a) / (b - a) * (t1 - t0)
+            })
+            .collect();
+        if ups.len() >= 3 {
+            let period = (ups[ups.len() - 1] - ups[0]) / (ups.len() - 1) as f64;
+            return result(LongRunKind::Cycle, Some(period), min, max, extinct);
+        }
+    }
+    let kind = if extinct.iter().any(|&e| e) {
+        LongRunKind::Extinction
+    } else {
+        LongRunKind::Equilibrium
+    };
+    result(kind, None, min, max, extinct)
+}
+
+/// Everything `tussock analyze` reports.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Analysis {
+    pub equilibria: Vec<Equilibrium>,
+    pub outcome: Option<OutcomeReport>,
+    pub long_run: LongRun,
+}
+
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct OutcomeReport {
+    pub kind: &'static str,
+    pub text: String,
+}
+
+impl From<Outcome> for OutcomeReport {
+    fn from(o: Outcome) -> Self {
+        OutcomeReport {
+            kind: o.kind,
+            text: o.text,
+        }
+    }
+}
+
+/// A density scale per species for searching equilibria: twice the largest
+/// of the initial density, the closed-form equilibria and 1.
+pub fn search_scale(problem: &Problem) -> [f64; 2] {
+    let mut scale = [1.0_f64, 1.0_f64];
+    let closed = (problem.model.equilibria)(&problem.params);
+    for i in 0..problem.model.n_species() {
+        scale[i] = scale[i].max(problem.initial[i]);
+        for e in &closed {
+            if e[i].is_finite() {
+                scale[i] = scale[i].max(e[i].abs());
+            }
+        }
+    }
+    scale
+}
+
+/// Equilibria, the model's verdict and the long-run behaviour of a problem.
+pub fn analyze(problem: &Problem) -> Analysis {
+    let equilibria = equilibria(problem.model, &problem.params, search_scale(problem));
+    let long_run = long_run(problem, &equilibria);
+    let outcome = if problem.params.harvest.iter().all(|&h| h == 0.0) {
+        (problem.model.outcome)(&problem.params).map(OutcomeReport::from)
+    } else {
+        None
+    };
+    Analysis {
+        equilibria,
+        outcome,
+        long_run,
+    }
+}

@@ -1,0 +1,116 @@
+//! Logistic growth of one population (Verhulst 1838) with births, deaths,
+//! immigration, emigration and an optional strong Allee effect.
+//!
+//! State: N.
+//!
+//! dN/dt = (b − d)·N·(1 − N/K)·φ(N) − emigration·N + immigration
+//!
+//! φ(N) = N/A − 1 when an Allee threshold A > 0 is given (the strong Allee
+//! effect of Courchamp, Berec & Gascoigne 2008, Allee Effects in Ecology and
+//! Conservation, eq. 2.1 form), else 1.
+
+use super::exponential::{BIRTH, DEATH, EMIGRATION_SPEC, IMMIGRATION_SPEC};
+use crate::model::{Group, Jacobian, ModelSpec, ParamSpec, Params, State, Unit};
+
+pub const B: usize = 0;
+pub const D: usize = 1;
+pub const K: usize = 2;
+pub const IMMIGRATION: usize = 3;
+pub const EMIGRATION: usize = 4;
+pub const ALLEE: usize = 5;
+
+pub static SPEC: ModelSpec = ModelSpec {
+    key: "logistic",
+    title: "Logistic growth",
+    group: Group::SinglePopulation,
+    summary: "One population whose growth slows to zero at its carrying capacity, with optional immigration, emigration and Allee threshold.",
+    equations: "dN/dt = (b − d)·N·(1 − N/K)·φ(N) − emigration·N + immigration\nφ(N) = N/A − 1 with an Allee threshold A, else 1",
+    species: &["population"],
+    params: &[
+        BIRTH,
+        DEATH,
+        ParamSpec::new("K", "carrying capacity", Unit::Individuals, 1000.0, (1e-9, 1e12), "Density at which births and deaths balance."),
+        IMMIGRATION_SPEC,
+        EMIGRATION_SPEC,
+        ParamSpec::new("A", "Allee threshold", Unit::Individuals, 0.0, (0.0, 1e12), "Below this density the population declines (strong Allee effect); 0 or absent for none. Needs b > d.").or_default(),
+    ],
+    choice: None,
+    rhs,
+    jacobian,
+    equilibria,
+    outcome: super::no_outcome,
+    check,
+};
+
+fn check(p: &Params) -> Result<(), (&'static str, String)> {
+    if p[ALLEE] > 0.0 && p[B] <= p[D] {
+        return Err((
+            "A",
+            format!(
+                "an Allee threshold needs births to exceed deaths (b = {} ≤ d = {})",
+                p[B], p[D]
+            ),
+        ));
+    }
+    Ok(())
+}
+
+fn growth_and_slope(p: &Params, n: f64) -> (f64, f64) {
+    let r = p[B] - p[D];
+    let u = n * (1.0 - n / p[K]);
+    let du = 1.0 - 2.0 * n / p[K];
+    if p[ALLEE] > 0.0 {
+        let v = n / p[ALLEE] - 1.0;
+        (r * u * v, r * (du * v + u / p[ALLEE]))
+    } else {
+        (r * u, r * du)
+    }
+}
+
+fn rhs(p: &Params, x: &State) -> State {
+    let (g, _) = growth_and_slope(p, x[0]);
+    State::new(g - p[EMIGRATION] * x[0] + p[IMMIGRATION], 0.0)
+}
+
+fn jacobian(p: &Params, x: &State) -> Jacobian {
+    let (_, slope) = growth_and_slope(p, x[0]);
+    Jacobian::new(slope - p[EMIGRATION], 0.0, 0.0, 0.0)
+}
+
+/// Roots of −(r/K)N² + (r − emigration)N + immigration = 0 without an Allee
+/// threshold; with one, the analysis finds them numerically.
+fn equilibria(p: &Params) -> Vec<State> {
+    if p[ALLEE] > 0.0 {
+        return vec![
+            State::zeros(),
+            State::new(p[ALLEE], 0.0),
+            State::new(p[K], 0.0),
+        ];
+    }
+    let r = p[B] - p[D];
+    let (qa, qb, qc) = (-r / p[K], r - p[EMIGRATION], p[IMMIGRATION]);
+    if qa == 0.0 {
+        return if qb != 0.0 {
+            vec![State::new(-qc / qb, 0.0)]
+        } else {
+            vec![State::zeros()]
+        };
+    }
+    let disc = qb * qb - 4.0 * qa * qc;
+    if disc < 0.0 {
+        return vec![];
+    }
+    let s = disc.sqrt();
+    vec![
+        State::new((-qb + s) / (2.0 * qa), 0.0),
+        State::new((-qb - s) / (2.0 * qa), 0.0),
+    ]
+}
+
+/// Closed form of the plain logistic (no immigration, emigration or Allee
+/// effect): N(t) = K N0 e^{rt} / (K + N0 (e^{rt} − 1)) (Verhulst 1838).
+pub fn exact(p: &Params, n0: f64, t: f64) -> f64 {
+    let r = p[B] - p[D];
+    let g = (r * t).exp();
+    p[K] * n0 * g / (p[K] + n0 * (g - 1.0))
+}
