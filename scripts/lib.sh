@@ -137,6 +137,21 @@ ensure_browser() {
     apt_install chromium chromium-driver
 }
 
+# A Python virtual environment with the reference libraries the
+# cross-checks compare against (tests/python/requirements.txt).
+ensure_python_refs() {
+    PY_ENV="$TOOLS_DIR/pyenv"
+    local want="$ROOT/tests/python/requirements.txt"
+    if [ -x "$PY_ENV/bin/python" ] && cmp -s "$want" "$PY_ENV/requirements.txt"; then
+        return
+    fi
+    command -v python3 >/dev/null || die "python3 not found: install Python 3 for the reference cross-checks"
+    say "creating a Python environment with scipy for the cross-checks in $PY_ENV"
+    python3 -m venv "$PY_ENV" || { apt_install python3-venv; python3 -m venv "$PY_ENV"; }
+    "$PY_ENV/bin/pip" install --quiet --disable-pip-version-check -r "$want"
+    cp "$want" "$PY_ENV/requirements.txt"
+}
+
 # Everything the browser build needs.
 ensure_web_toolchain() {
     require_cargo

@@ -9,6 +9,7 @@
 //! [`solve::Trajectory`] that always says why it stopped.
 
 pub mod analysis;
+pub mod bench_problems;
 pub mod model;
 pub mod models;
 pub mod scenario;

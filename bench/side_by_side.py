@@ -1,0 +1,106 @@
+"""Time one solve of the same problems in Tussock, scipy and R's deSolve,
+in one run on one machine, and print a markdown table of ratios.
+
+Problems (defined once in core/src/bench_problems.rs):
+- the standard non-stiff test problem dx/dt = 1.5x - xy, dy/dt = -3y + xy,
+  x(0) = y(0) = 1, t in [0, 10], rtol = atol = 1e-8, output every 0.1;
+- Rosenzweig-MacArthur (r=1, K=500, a=0.02, h=0.5, e=0.4, m=0.3) from
+  (100, 10) over 1000 days, daily output, rtol = atol = 1e-8.
+
+References: scipy.integrate.solve_ivp(method="RK45") (Virtanen et al. 2020)
+and deSolve::ode(method="ode45") (Soetaert, Petzoldt & Setzer 2010, J. Stat.
+Softw. 33(9)), both Dormand-Prince 5(4) like Tussock's.
+
+Usage: scripts/bench (installs what is missing), or
+python3 bench/side_by_side.py with scipy importable and Rscript on PATH.
+"""
+
+import json
+import os
+import shutil
+import subprocess
+import sys
+import timeit
+
+import numpy as np
+from scipy.integrate import solve_ivp
+
+ROOT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
+
+
+def tussock():
+    out = subprocess.run(
+        ["cargo", "run", "--quiet", "--release", "-p", "tussock-core", "--example", "time_solves"],
+        cwd=ROOT, check=True, capture_output=True, text=True,
+    ).stdout
+    return json.loads(out)
+
+
+def standard(_t, x):
+    return [1.5 * x[0] - x[0] * x[1], -3.0 * x[1] + x[0] * x[1]]
+
+
+def rosenzweig_macarthur(_t, x):
+    n, p = x
+    f = 0.02 * n / (1 + 0.02 * 0.5 * n)
+    return [n * (1 - n / 500.0) - f * p, 0.4 * f * p - 0.3 * p]
+
+
+def time_scipy(fun, t_end, y0, step):
+    t_eval = np.arange(0.0, t_end + step / 2, step)
+    run = lambda: solve_ivp(fun, (0.0, t_end), y0, method="RK45", t_eval=t_eval, rtol=1e-8, atol=1e-8)
+    run()  # warm-up
+    reps = max(1, int(1.0 / (timeit.timeit(run, number=1) + 1e-9)))
+    best = sorted(timeit.repeat(run, number=reps, repeat=5))
+    return best[len(best) // 2] / reps
+
+
+R_SCRIPT = r"""
+suppressMessages(library(deSolve))
+std <- function(t, y, p) list(c(1.5*y[1] - y[1]*y[2], -3*y[2] + y[1]*y[2]))
+rm <- function(t, y, p) { f <- 0.02*y[1]/(1 + 0.02*0.5*y[1]); list(c(y[1]*(1 - y[1]/500) - f*y[2], 0.4*f*y[2] - 0.3*y[2])) }
+per_solve <- function(fun, y0, times) {
+  run <- function() ode(y0, times, fun, NULL, method = "ode45", rtol = 1e-8, atol = 1e-8)
+  run()
+  t1 <- system.time(run())[["elapsed"]]
+  reps <- max(1, floor(1 / max(t1, 1e-4)))
+  rounds <- sapply(1:5, function(i) system.time(for (k in 1:reps) run())[["elapsed"]] / reps)
+  median(rounds)
+}
+cat(sprintf('{"standard": %.9g, "rosenzweig_macarthur": %.9g}\n',
+  per_solve(std, c(1, 1), seq(0, 10, by = 0.1)),
+  per_solve(rm, c(100, 10), seq(0, 1000, by = 1))))
+"""
+
+
+def time_desolve():
+    if not shutil.which("Rscript"):
+        return None
+    out = subprocess.run(["Rscript", "-e", R_SCRIPT], check=True, capture_output=True, text=True).stdout
+    return json.loads(out.strip().splitlines()[-1])
+
+
+def main():
+    t = tussock()
+    s = {
+        "standard": time_scipy(standard, 10.0, [1.0, 1.0], 0.1),
+        "rosenzweig_macarthur": time_scipy(rosenzweig_macarthur, 1000.0, [100.0, 10.0], 1.0),
+    }
+    r = time_desolve()
+    rows = [("standard non-stiff problem (t = 0..10)", "standard"),
+            ("Rosenzweig–MacArthur, 1000 days", "rosenzweig_macarthur")]
+    print("| problem | Tussock per solve | scipy RK45 | deSolve ode45 | Tussock vs scipy | Tussock vs deSolve |")
+    print("| --- | --- | --- | --- | --- | --- |")
+    for label, key in rows:
+        ours = t[key]["seconds"]
+        theirs = s[key]
+        rr = r[key] if r else None
+        print(f"| {label} | {ours * 1e6:.1f} µs | {theirs * 1e3:.2f} ms | "
+              f"{(f'{rr * 1e3:.2f} ms') if rr else 'not measured (no Rscript)'} | "
+              f"{theirs / ours:.0f}× faster | {(f'{rr / ours:.0f}× faster') if rr else '–'} |")
+    print(f"\nMeasured {os.popen('date -u +%Y-%m-%d').read().strip()} on {os.cpu_count()} cores; "
+          f"Python {sys.version.split()[0]}, scipy {__import__('scipy').__version__}.")
+
+
+if __name__ == "__main__":
+    main()
