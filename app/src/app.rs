@@ -1,30 +1,46 @@
-//! The top-level component: the scenario form beside the two charts.
+//! The top-level component: inputs on the left, analysis and charts on the
+//! right, cautions at the foot.
 
+use tussock_core::analysis::round_sig;
+use web_sys::HtmlInputElement;
 use yew::prelude::*;
 
+use crate::components::analysis_panel::{long_run_sentence, AnalysisPanel};
 use crate::components::chart_canvas::{ChartCanvas, ChartKind};
+use crate::components::example_menu::ExampleMenu;
+use crate::components::model_picker::ModelPicker;
 use crate::components::scenario_form::ScenarioForm;
-use crate::state::{starting_scenario, Run, Workbench};
+use crate::state::{Action, Run, Workbench};
 
 #[function_component(App)]
 pub fn app() -> Html {
-    let bench = use_reducer(|| match Workbench::new(starting_scenario()) {
-        Ok(b) => b,
-        Err(e) => {
-            crate::panic::show_fatal(&format!("the starting scenario is invalid: {e}"));
-            // A last resort that is valid by construction.
-            let model = tussock_core::models::MODELS[0];
-            let scenario = tussock_core::Scenario::with_defaults(model, vec![10.0, 1.0], 100.0);
-            Workbench::new(scenario).unwrap_or_else(|_| unreachable!("defaults are valid"))
-        }
-    });
+    let bench = use_reducer(Workbench::starting);
     let run = bench.run.clone();
     let model = run.problem.model;
+    let two_species = model.n_species() == 2;
     let stop = (!run.trajectory.stop.is_finished()).then(|| {
         run.trajectory
             .stop
             .describe(&run.problem.species, &run.problem.time_unit)
     });
+
+    let on_log = {
+        let d = bench.dispatcher();
+        Callback::from(move |e: Event| {
+            let input: HtmlInputElement = e.target_unchecked_into();
+            d.dispatch(Action::SetLogScale {
+                on: input.checked(),
+            });
+        })
+    };
+    let on_plane_click = {
+        let d = bench.dispatcher();
+        Callback::from(move |(x, y): (f64, f64)| d.dispatch(Action::AddStart { x, y }))
+    };
+    let on_clear = {
+        let d = bench.dispatcher();
+        Callback::from(move |_: MouseEvent| d.dispatch(Action::ClearStarts))
+    };
 
     html! {
         <>
@@ -32,8 +48,10 @@ pub fn app() -> Html {
             <h1>{ "Tussock" }</h1>
             <p class="tagline">{ "What will two interacting populations do? Set the numbers, read the curves." }</p>
         </header>
+        <ExampleMenu bench={bench.clone()} />
         <div class="workbench">
             <aside class="inputs">
+                <ModelPicker bench={bench.clone()} />
                 <h2>{ model.title }</h2>
                 <p class="summary">{ model.summary }</p>
                 <pre class="equations" aria-label="model equations">{ model.equations }</pre>
@@ -43,10 +61,26 @@ pub fn app() -> Html {
                 if let Some(message) = stop {
                     <p class="stop-warning" role="status">{ message }</p>
                 }
-                <h2>{ "Densities over time" }</h2>
-                <ChartCanvas id="chart-time" kind={ChartKind::TimeSeries} run={run.clone()} summary={time_summary(&run)} />
-                <h2>{ "Phase plane" }</h2>
-                <ChartCanvas id="chart-phase" kind={ChartKind::PhasePlane} run={run.clone()} summary={phase_summary(&run)} />
+                <AnalysisPanel run={run.clone()} />
+                <div class="chart-head">
+                    <h2>{ "Densities over time" }</h2>
+                    <label class="toggle"><input id="log-scale" type="checkbox" checked={bench.log_scale} onchange={on_log} />{ " log scale" }</label>
+                </div>
+                <ChartCanvas id="chart-time" kind={ChartKind::TimeSeries} run={run.clone()} log_y={bench.log_scale} summary={time_summary(&run)} />
+                if two_species {
+                    <div class="chart-head">
+                        <h2>{ "Phase plane" }</h2>
+                        <button id="clear-trajectories" type="button" onclick={on_clear} disabled={bench.starts.is_empty()}>
+                            { format!("Clear added trajectories ({})", bench.starts.len()) }
+                        </button>
+                    </div>
+                    <ChartCanvas id="chart-phase" kind={ChartKind::PhasePlane} run={run.clone()} summary={phase_summary(&run)} on_click={on_plane_click} />
+                    <p class="key" aria-hidden="true">
+                        { format!("Key: ● stable equilibrium  ○ unstable  ⊗ saddle  — — {} nullcline  · · · {} nullcline  ",
+                            run.problem.species[0], run.problem.species[1]) }
+                        <span class="swatch-extra">{ "━" }</span>{ " trajectories you added (click the plane)" }
+                    </p>
+                }
             </section>
         </div>
         <footer class="cautions">
@@ -74,24 +108,36 @@ fn time_summary(run: &Run) -> AttrValue {
     let parts: Vec<String> = (0..run.trajectory.n_species)
         .map(|i| {
             let (lo, hi) = range_of(run, i);
-            format!("{} between {lo:.1} and {hi:.1}", p.species[i])
+            format!(
+                "{} between {} and {}",
+                p.species[i],
+                round_sig(lo, 3),
+                round_sig(hi, 3)
+            )
         })
         .collect();
     AttrValue::from(format!(
-        "Densities over {} {}: {}.",
+        "Densities over {} {}: {}. {}",
         p.t_end,
         p.time_unit,
-        parts.join("; ")
+        parts.join("; "),
+        long_run_sentence(run)
     ))
 }
 
 fn phase_summary(run: &Run) -> AttrValue {
     let p = &run.problem;
     match (run.trajectory.states.first(), run.trajectory.states.last()) {
-        (Some(a), Some(b)) if run.trajectory.n_species == 2 => AttrValue::from(format!(
-            "Phase plane of {} against {}: from ({:.1}, {:.1}) to ({:.1}, {:.1}).",
-            p.species[1], p.species[0], a[0], a[1], b[0], b[1]
+        (Some(a), Some(b)) => AttrValue::from(format!(
+            "Phase plane of {} against {}: from ({}, {}) to ({}, {}); {} extra trajectories.",
+            p.species[1],
+            p.species[0],
+            round_sig(a[0], 3),
+            round_sig(a[1], 3),
+            round_sig(b[0], 3),
+            round_sig(b[1], 3),
+            run.extra.len()
         )),
-        _ => AttrValue::from("Phase plane: not available for one species."),
+        _ => AttrValue::from("Phase plane: no trajectory."),
     }
 }

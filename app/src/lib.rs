@@ -9,6 +9,7 @@
 pub mod app;
 pub mod charts;
 pub mod components;
+pub mod examples;
 pub mod panic;
 pub mod state;
 

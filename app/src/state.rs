@@ -8,17 +8,57 @@
 use std::collections::BTreeMap;
 use std::rc::Rc;
 
-use tussock_core::{solve, Problem, Scenario, Trajectory};
+use tussock_core::analysis::{self, Analysis, Nullcline};
+use tussock_core::{models, solve, solve_with, Problem, Scenario, State, Trajectory};
+
+use crate::examples::EXAMPLES;
 
 /// One edit from the user.
 #[derive(Clone, Debug, PartialEq)]
 pub enum Action {
     /// Text typed into a parameter field, by symbol.
-    SetParam { symbol: String, text: String },
+    SetParam {
+        symbol: String,
+        text: String,
+    },
     /// Text typed into the initial density of species `index`.
-    SetInitial { index: usize, text: String },
+    SetInitial {
+        index: usize,
+        text: String,
+    },
     /// Text typed into the horizon field.
-    SetHorizon { text: String },
+    SetHorizon {
+        text: String,
+    },
+    /// A new name for species `index`.
+    SetSpecies {
+        index: usize,
+        text: String,
+    },
+    SetTimeUnit {
+        unit: String,
+    },
+    /// Switch to another model from the catalogue, with its defaults.
+    SetModel {
+        key: String,
+    },
+    /// Pick a variant (the functional response) by its key.
+    SetChoice {
+        key: String,
+    },
+    /// Load demo scenario `index` of [`EXAMPLES`].
+    LoadExample {
+        index: usize,
+    },
+    /// Start another trajectory at this point of the phase plane.
+    AddStart {
+        x: f64,
+        y: f64,
+    },
+    ClearStarts,
+    SetLogScale {
+        on: bool,
+    },
 }
 
 /// A field of the scenario form, used as the key of texts and messages.
@@ -27,13 +67,23 @@ pub enum Field {
     Param(String),
     Initial(usize),
     Horizon,
+    Species(usize),
 }
 
-/// The last good run: the problem that produced it and its trajectory.
+/// Most extra trajectories kept on the phase plane.
+pub const MAX_STARTS: usize = 12;
+
+/// Everything computed from one accepted scenario.
 #[derive(Debug)]
 pub struct Run {
     pub problem: Problem,
     pub trajectory: Trajectory,
+    pub analysis: Analysis,
+    /// Trajectories from the starts the user clicked.
+    pub extra: Vec<Trajectory>,
+    /// Phase-plane extent: species 0 across, species 1 up.
+    pub window: (f64, f64),
+    pub nullclines: Vec<Nullcline>,
 }
 
 /// Runs are immutable once made, so two are equal when they are the same run;
@@ -41,6 +91,64 @@ pub struct Run {
 impl PartialEq for Run {
     fn eq(&self, other: &Self) -> bool {
         std::ptr::eq(self, other)
+    }
+}
+
+impl Run {
+    /// Solve, analyse and trace everything the charts show.
+    pub fn compute(problem: Problem, starts: &[State]) -> Run {
+        let trajectory = solve(&problem);
+        let analysis = analysis::analyze(&problem);
+        let extra: Vec<Trajectory> = starts
+            .iter()
+            .map(|s| {
+                solve_with(
+                    problem.model,
+                    &problem.params,
+                    *s,
+                    problem.t_end,
+                    problem.output_step,
+                    &problem.solver,
+                )
+            })
+            .collect();
+        let mut window = (0.0_f64, 0.0_f64);
+        for t in std::iter::once(&trajectory).chain(&extra) {
+            for s in &t.states {
+                window.0 = window.0.max(s[0]);
+                window.1 = window.1.max(s[1]);
+            }
+        }
+        let seen = window;
+        for e in analysis.equilibria.iter().filter(|e| e.feasible) {
+            // Show equilibria near the action, not ones far off the chart.
+            if e.state.len() == 2
+                && e.state[0] <= 5.0 * seen.0.max(1e-9)
+                && e.state[1] <= 5.0 * seen.1.max(1e-9)
+            {
+                window.0 = window.0.max(e.state[0]);
+                window.1 = window.1.max(e.state[1]);
+            }
+        }
+        let window = (pad(window.0), pad(window.1));
+        let nullclines =
+            analysis::nullclines(problem.model, &problem.params, window.0, window.1, 120);
+        Run {
+            problem,
+            trajectory,
+            analysis,
+            extra,
+            window,
+            nullclines,
+        }
+    }
+}
+
+fn pad(max: f64) -> f64 {
+    if max > 0.0 && max.is_finite() {
+        max * 1.08
+    } else {
+        1.0
     }
 }
 
@@ -54,6 +162,11 @@ pub struct Workbench {
     pub texts: BTreeMap<Field, String>,
     /// A message for each field whose text was rejected.
     pub errors: BTreeMap<Field, String>,
+    /// Extra starting points on the phase plane.
+    pub starts: Vec<State>,
+    pub log_scale: bool,
+    /// The demo last loaded, while it is unchanged.
+    pub example: Option<usize>,
     /// Number of simulations done, for tests and diagnostics.
     pub n_solves: u64,
 }
@@ -63,15 +176,16 @@ impl PartialEq for Workbench {
         Rc::ptr_eq(&self.run, &other.run)
             && self.texts == other.texts
             && self.errors == other.errors
+            && self.log_scale == other.log_scale
+            && self.example == other.example
     }
 }
 
-/// The scenario the app opens with: an invented greenhouse case.
+/// The scenario the app opens with: the first demo.
 pub fn starting_scenario() -> Scenario {
-    let text = include_str!("../../examples/greenhouse-mites.json");
-    // The file is part of the build and checked by a test below.
-    Scenario::from_json(text).unwrap_or_else(|_| {
-        Scenario::with_defaults(tussock_core::models::MODELS[0], vec![60.0, 5.0], 120.0)
+    EXAMPLES[0].scenario().unwrap_or_else(|| {
+        let model = models::MODELS[0];
+        Scenario::with_defaults(model, model.default_initial.to_vec(), 100.0)
     })
 }
 
@@ -79,17 +193,27 @@ impl Workbench {
     /// A workbench showing `scenario`, or an error if it is invalid.
     pub fn new(scenario: Scenario) -> Result<Workbench, tussock_core::ScenarioError> {
         let problem = scenario.validate()?;
-        let trajectory = solve(&problem);
         Ok(Workbench {
             scenario,
-            run: Rc::new(Run {
-                problem,
-                trajectory,
-            }),
+            run: Rc::new(Run::compute(problem, &[])),
             texts: BTreeMap::new(),
             errors: BTreeMap::new(),
+            starts: Vec::new(),
+            log_scale: false,
+            example: None,
             n_solves: 1,
         })
+    }
+
+    /// The workbench the page opens with.
+    pub fn starting() -> Workbench {
+        let mut b = Workbench::new(starting_scenario()).unwrap_or_else(|_| {
+            let model = models::MODELS[0];
+            let s = Scenario::with_defaults(model, model.default_initial.to_vec(), 100.0);
+            Workbench::new(s).unwrap_or_else(|e| unreachable!("model defaults are valid: {e}"))
+        });
+        b.example = Some(0);
+        b
     }
 
     /// The text to show in a field: what the user typed, else the value.
@@ -111,6 +235,13 @@ impl Workbench {
                 .map(|v| format_number(*v))
                 .unwrap_or_default(),
             Field::Horizon => format_number(self.scenario.t_end),
+            Field::Species(i) => self
+                .run
+                .problem
+                .species
+                .get(*i)
+                .cloned()
+                .unwrap_or_default(),
         }
     }
 
@@ -120,14 +251,108 @@ impl Workbench {
 
     /// Apply one edit and return the new state.
     pub fn apply(&self, action: Action) -> Workbench {
+        match action {
+            Action::SetParam { symbol, text } => self.edit_field(Field::Param(symbol), text),
+            Action::SetInitial { index, text } => self.edit_field(Field::Initial(index), text),
+            Action::SetHorizon { text } => self.edit_field(Field::Horizon, text),
+            Action::SetSpecies { index, text } => self.edit_field(Field::Species(index), text),
+            Action::SetTimeUnit { unit } => {
+                let mut s = self.scenario.clone();
+                s.time_unit = Some(unit);
+                self.replace(s, false)
+            }
+            Action::SetModel { key } => match models::find(&key) {
+                Some(model) if model.key != self.scenario.model => {
+                    let mut s = Scenario::with_defaults(
+                        model,
+                        model.default_initial.to_vec(),
+                        self.scenario.t_end,
+                    );
+                    s.time_unit = self.scenario.time_unit.clone();
+                    s.output_step = None;
+                    self.replace(s, true)
+                }
+                _ => self.clone(),
+            },
+            Action::SetChoice { key } => {
+                let mut s = self.scenario.clone();
+                s.functional_response = Some(key);
+                self.replace(s, false)
+            }
+            Action::LoadExample { index } => match EXAMPLES.get(index).and_then(|e| e.scenario()) {
+                Some(s) => {
+                    let mut next = self.replace(s, true);
+                    if !next.errors.contains_key(&Field::Horizon) {
+                        next.example = Some(index);
+                    }
+                    next
+                }
+                None => self.clone(),
+            },
+            Action::AddStart { x, y } => {
+                if !(x.is_finite() && y.is_finite() && x >= 0.0 && y >= 0.0)
+                    || self.run.problem.model.n_species() < 2
+                {
+                    return self.clone();
+                }
+                let mut next = self.clone();
+                next.starts.push(State::new(x, y));
+                if next.starts.len() > MAX_STARTS {
+                    next.starts.remove(0);
+                }
+                next.recompute(self.run.problem.clone());
+                next
+            }
+            Action::ClearStarts => {
+                if self.starts.is_empty() {
+                    return self.clone();
+                }
+                let mut next = self.clone();
+                next.starts.clear();
+                next.recompute(self.run.problem.clone());
+                next
+            }
+            Action::SetLogScale { on } => {
+                let mut next = self.clone();
+                next.log_scale = on;
+                next
+            }
+        }
+    }
+
+    fn recompute(&mut self, problem: Problem) {
+        self.run = Rc::new(Run::compute(problem, &self.starts));
+        self.n_solves += 1;
+    }
+
+    /// Accept a whole new scenario (a model switch, an example, a choice).
+    /// `fresh` clears typed texts, messages and extra trajectories.
+    fn replace(&self, scenario: Scenario, fresh: bool) -> Workbench {
         let mut next = self.clone();
-        let (field, text) = match &action {
-            Action::SetParam { symbol, text } => (Field::Param(symbol.clone()), text.clone()),
-            Action::SetInitial { index, text } => (Field::Initial(*index), text.clone()),
-            Action::SetHorizon { text } => (Field::Horizon, text.clone()),
-        };
+        match scenario.validate() {
+            Ok(problem) => {
+                if fresh {
+                    next.texts.clear();
+                    next.errors.clear();
+                    next.starts.clear();
+                }
+                next.scenario = scenario;
+                next.example = None;
+                next.recompute(problem);
+            }
+            Err(e) => {
+                // Only reachable through a bad built-in file; say so on the
+                // horizon field rather than lose the current run.
+                next.errors.insert(Field::Horizon, e.to_string());
+            }
+        }
+        next
+    }
+
+    fn edit_field(&self, field: Field, text: String) -> Workbench {
+        let mut next = self.clone();
         next.texts.insert(field.clone(), text.clone());
-        let candidate = match edited(&self.scenario, &field, &text) {
+        let candidate = match edited(&self.scenario, &self.run.problem, &field, &text) {
             Ok(c) => c,
             Err(message) => {
                 next.errors.insert(field, message);
@@ -142,13 +367,9 @@ impl Workbench {
         match candidate.validate() {
             Ok(problem) => {
                 next.errors.remove(&field);
-                let trajectory = solve(&problem);
-                next.run = Rc::new(Run {
-                    problem,
-                    trajectory,
-                });
                 next.scenario = candidate;
-                next.n_solves += 1;
+                next.example = None;
+                next.recompute(problem);
             }
             Err(e) => {
                 next.errors.insert(field, strip_path(&e.to_string()));
@@ -166,15 +387,31 @@ impl yew::Reducible for Workbench {
 }
 
 /// The scenario with one field set from text, or a message if the text is
-/// not a number.
-fn edited(scenario: &Scenario, field: &Field, text: &str) -> Result<Scenario, String> {
+/// not usable.
+fn edited(
+    scenario: &Scenario,
+    problem: &Problem,
+    field: &Field,
+    text: &str,
+) -> Result<Scenario, String> {
     let mut s = scenario.clone();
+    if let Field::Species(i) = field {
+        let mut names = problem.species.clone();
+        match names.get_mut(*i) {
+            Some(slot) => *slot = text.trim().to_string(),
+            None => return Err("no such species".to_string()),
+        }
+        s.species = Some(names);
+        return Ok(s);
+    }
     let trimmed = text.trim();
     if trimmed.is_empty() {
         if let Field::Param(symbol) = field {
-            let optional = tussock_core::models::find(&s.model)
-                .and_then(|m| m.params.iter().find(|p| p.symbol == symbol))
-                .is_some_and(|p| p.optional);
+            let optional = problem
+                .model
+                .params
+                .iter()
+                .any(|p| p.symbol == symbol && p.optional);
             if optional {
                 s.params.remove(symbol);
                 return Ok(s);
@@ -191,7 +428,12 @@ fn edited(scenario: &Scenario, field: &Field, text: &str) -> Result<Scenario, St
             Some(slot) => *slot = value,
             None => return Err("no such species".to_string()),
         },
-        Field::Horizon => s.t_end = value,
+        Field::Horizon => {
+            s.t_end = value;
+            // Keep about the same output resolution.
+            s.output_step = None;
+        }
+        Field::Species(_) => {}
     }
     Ok(s)
 }
@@ -234,7 +476,7 @@ mod tests {
     use super::*;
 
     fn bench() -> Workbench {
-        Workbench::new(starting_scenario()).expect("starting scenario is valid")
+        Workbench::starting()
     }
 
     fn set(symbol: &str, text: &str) -> Action {
@@ -245,24 +487,19 @@ mod tests {
     }
 
     #[test]
-    fn starting_scenario_file_is_valid() {
-        let text = include_str!("../../examples/greenhouse-mites.json");
-        Scenario::from_json(text).unwrap().validate().unwrap();
-    }
-
-    #[test]
     fn a_changed_value_resimulates() {
         let b = bench();
         let next = b.apply(set("r", "0.5"));
         assert_eq!(next.n_solves, 2);
         assert_ne!(next.run.trajectory.states, b.run.trajectory.states);
         assert_eq!(next.error(&Field::Param("r".into())), None);
+        assert_eq!(next.example, None, "an edited demo is no longer the demo");
     }
 
     #[test]
     fn the_same_value_typed_differently_does_not_resimulate() {
         let b = bench();
-        let next = b.apply(set("r", "0.30"));
+        let next = b.apply(set("r", "0.250"));
         assert_eq!(next.n_solves, 1);
         assert!(Rc::ptr_eq(&next.run, &b.run));
     }
@@ -296,9 +533,13 @@ mod tests {
 
     #[test]
     fn clearing_an_optional_parameter_removes_it() {
-        let next = bench().apply(set("K", ""));
-        assert!(!next.scenario.params.contains_key("K"));
-        assert_eq!(next.n_solves, 2);
+        let b = bench().apply(Action::SetModel {
+            key: "lotka_volterra".into(),
+        });
+        let with_k = b.apply(set("K", "300"));
+        let without = with_k.apply(set("K", ""));
+        assert!(!without.scenario.params.contains_key("K"));
+        assert_eq!(without.n_solves, with_k.n_solves + 1);
     }
 
     #[test]
@@ -318,5 +559,86 @@ mod tests {
             text: "-3".into(),
         });
         assert_eq!(bad.error(&Field::Initial(1)), Some("must be ≥ 0, got -3"));
+    }
+
+    #[test]
+    fn every_model_can_be_chosen_and_runs() {
+        let mut b = bench();
+        for model in models::MODELS {
+            b = b.apply(Action::SetModel {
+                key: model.key.into(),
+            });
+            assert_eq!(b.run.problem.model.key, model.key);
+            assert!(b.run.trajectory.stop.is_finished(), "{}", model.key);
+            assert!(!b.run.analysis.equilibria.is_empty(), "{}", model.key);
+            assert_eq!(b.run.problem.species.len(), model.n_species());
+        }
+    }
+
+    #[test]
+    fn every_functional_response_can_be_chosen() {
+        let mut b = bench();
+        let choice = b
+            .run
+            .problem
+            .model
+            .choice
+            .expect("the demo model has a choice");
+        for (i, (key, _)) in choice.options.iter().enumerate() {
+            b = b.apply(Action::SetChoice {
+                key: key.to_string(),
+            });
+            assert_eq!(b.run.problem.params.choice, i);
+        }
+    }
+
+    #[test]
+    fn species_names_are_validated() {
+        let b = bench();
+        let named = b.apply(Action::SetSpecies {
+            index: 0,
+            text: "thrips".into(),
+        });
+        assert_eq!(named.run.problem.species[0], "thrips");
+        let empty = b.apply(Action::SetSpecies {
+            index: 0,
+            text: "  ".into(),
+        });
+        assert_eq!(empty.error(&Field::Species(0)), Some("must not be empty"));
+        assert_eq!(empty.run.problem.species[0], "spider mite");
+    }
+
+    #[test]
+    fn clicked_starts_add_trajectories_and_clear() {
+        let b = bench()
+            .apply(Action::AddStart { x: 50.0, y: 5.0 })
+            .apply(Action::AddStart { x: 10.0, y: 2.0 });
+        assert_eq!(b.run.extra.len(), 2);
+        assert_eq!(b.run.extra[0].states[0][0], 50.0);
+        // A parameter change keeps them, recomputed.
+        let changed = b.apply(set("r", "0.3"));
+        assert_eq!(changed.run.extra.len(), 2);
+        let cleared = changed.apply(Action::ClearStarts);
+        assert!(cleared.run.extra.is_empty());
+        // Nonsense clicks are ignored.
+        let same = cleared.apply(Action::AddStart {
+            x: f64::NAN,
+            y: 1.0,
+        });
+        assert!(Rc::ptr_eq(&same.run, &cleared.run));
+    }
+
+    #[test]
+    fn examples_load_and_are_marked() {
+        let b = bench().apply(Action::LoadExample { index: 2 });
+        assert_eq!(b.example, Some(2));
+        assert_eq!(b.run.problem.model.key, "competition");
+        let outcome = b
+            .run
+            .analysis
+            .outcome
+            .as_ref()
+            .expect("competition has a verdict");
+        assert_eq!(outcome.kind, "species_1_excludes_2");
     }
 }

@@ -420,23 +420,38 @@ pub struct LongRun {
 pub const EXTINCTION_DENSITY: f64 = 1e-6;
 
 /// Simulate long enough for transients to fade (at least the scenario's
-/// horizon, and 200 of the slowest linear time scales of the feasible
-/// equilibria, at most 1e5 time units), then read the last quarter.
+/// horizon, 200 of the slowest oscillation time scales of the feasible
+/// equilibria and 20 of the slowest decay time scales of the stable ones, at most
+/// 1e5 time units), then read the last quarter.
 pub fn long_run(problem: &Problem, equilibria: &[Equilibrium]) -> LongRun {
     let model = problem.model;
     let n = model.n_species();
-    let slowest = equilibria
+    // Time scales: oscillation (1/|λ|) at the feasible equilibria, and
+    // decay (1/|Re λ|) towards the stable ones, long near a Hopf point.
+    let eigs: Vec<(f64, f64)> = equilibria
         .iter()
         .filter(|e| e.feasible)
-        .flat_map(|e| e.eigenvalues.iter())
+        .flat_map(|e| e.eigenvalues.iter().copied())
+        .collect();
+    let stable_eigs: Vec<(f64, f64)> = equilibria
+        .iter()
+        .filter(|e| e.feasible && e.stability.is_stable())
+        .flat_map(|e| e.eigenvalues.iter().copied())
+        .collect();
+    let slowest_turn = eigs
+        .iter()
         .map(|&(re, im)| (re * re + im * im).sqrt())
         .filter(|&m| m > 1e-9)
         .fold(f64::INFINITY, f64::min);
-    let horizon = if slowest.is_finite() {
-        200.0 / slowest
-    } else {
-        0.0
-    };
+    let slowest_decay = stable_eigs
+        .iter()
+        .map(|e| e.0.abs())
+        .filter(|&r| r > 1e-9)
+        .fold(f64::INFINITY, f64::min);
+    let horizon = [200.0 / slowest_turn, 20.0 / slowest_decay]
+        .into_iter()
+        .filter(|t| t.is_finite())
+        .fold(0.0, f64::max);
     let t_end = horizon.max(problem.t_end).min(1e5);
     let options = SolverOptions {
         rtol: problem.solver.rtol.min(1e-8),
@@ -591,5 +606,64 @@ pub fn analyze(problem: &Problem) -> Analysis {
         equilibria,
         outcome,
         long_run,
+    }
+}
+
+/// One sentence on an equilibrium for a user, e.g. "spider mite 4.3 and
+/// predatory mite 27.1: stable spiral; nearby states return through damped
+/// oscillations of period ≈ 25.1 days."
+pub fn describe_equilibrium(eq: &Equilibrium, species: &[String], time_unit: &str) -> String {
+    let values: Vec<String> = eq
+        .state
+        .iter()
+        .zip(species)
+        .map(|(v, s)| format!("{s} {}", round_sig(*v, 4)))
+        .collect();
+    let period = eq
+        .eigenvalues
+        .first()
+        .filter(|e| e.1 != 0.0)
+        .map(|e| 2.0 * std::f64::consts::PI / e.1.abs());
+    let period_text = period
+        .map(|p| format!(" of period ≈ {} {time_unit}", round_sig(p, 3)))
+        .unwrap_or_default();
+    let meaning = match eq.stability {
+        Stability::StableNode => "nearby states return without oscillating".to_string(),
+        Stability::StableSpiral => {
+            format!("nearby states return through damped oscillations{period_text}")
+        }
+        Stability::UnstableNode => "nearby states move away from it".to_string(),
+        Stability::UnstableSpiral => {
+            format!("nearby states spiral away in growing oscillations{period_text}")
+        }
+        Stability::Saddle => {
+            "approached along one direction and left along another, it divides outcomes".to_string()
+        }
+        Stability::Center => format!("neutral cycles{period_text} surround it (linear analysis)"),
+        Stability::NonHyperbolic => {
+            "linear analysis cannot decide its stability (an eigenvalue is zero)".to_string()
+        }
+    };
+    let joined = values.join(" and ");
+    let infeasible = if eq.feasible {
+        ""
+    } else {
+        " Not reachable: a density is negative."
+    };
+    format!("{joined}: {}; {meaning}.{infeasible}", eq.stability.label())
+}
+
+/// `v` rounded to `digits` significant digits, without trailing zeros.
+pub fn round_sig(v: f64, digits: i32) -> String {
+    if v == 0.0 || !v.is_finite() {
+        return format!("{v}");
+    }
+    let magnitude = v.abs().log10().floor() as i32;
+    let decimals = (digits - 1 - magnitude).max(0) as usize;
+    let s = format!("{v:.decimals$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
     }
 }

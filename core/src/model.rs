@@ -170,6 +170,8 @@ pub struct ModelSpec {
     /// Default names of the species in state order; its length is the
     /// number of species.
     pub species: &'static [&'static str],
+    /// Starting densities offered when a user picks the model.
+    pub default_initial: &'static [f64],
     pub params: &'static [ParamSpec],
     pub choice: Option<&'static ChoiceSpec>,
     /// Right-hand side dx/dt at state `x` without harvest; the solver
@@ -218,20 +220,28 @@ impl ParamSpec {
         }
     }
 
-    /// The valid range in words: `0 to 100`, `> 0`, `≥ 1`.
+    /// The valid range in words: `0 to 100`, `> 0`, `≥ 1`, `> 0 and ≤ 1e12`.
     pub fn range_text(&self) -> String {
-        let low = if self.min > 0.0 && self.min < 1e-6 {
+        let positive = self.min > 0.0 && self.min < 1e-6;
+        let low = if positive {
             "> 0".to_string()
         } else {
-            format!("≥ {}", self.min)
+            format!("≥ {}", compact(self.min))
         };
-        if self.max.is_infinite() {
-            low
-        } else if self.min > 0.0 && self.min < 1e-6 {
-            format!("> 0 and ≤ {}", self.max)
-        } else {
-            format!("{} to {}", self.min, self.max)
+        match (self.max.is_infinite(), positive) {
+            (true, _) => low,
+            (false, true) => format!("> 0 and ≤ {}", compact(self.max)),
+            (false, false) => format!("{} to {}", compact(self.min), compact(self.max)),
         }
+    }
+}
+
+/// A number written short: `100`, `0.5`, `1e12`.
+fn compact(v: f64) -> String {
+    if v != 0.0 && v.abs() >= 1e6 {
+        format!("{v:e}")
+    } else {
+        format!("{v}")
     }
 }
 

@@ -260,6 +260,11 @@ impl Browser {
             .unwrap_or_default()
     }
 
+    async fn assert_clean_console(&self) {
+        let errors = self.console_errors().await;
+        assert!(errors.is_empty(), "console errors: {errors:?}");
+    }
+
     async fn screenshot(&self, name: &str) {
         let png = self.client.screenshot().await.expect("take a screenshot");
         let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("artifacts");
@@ -286,8 +291,7 @@ async fn page_loads_and_draws_both_charts_without_console_errors() {
         assert!(ink > 1000, "{id} is blank ({ink} non-white pixels)");
     }
     b.screenshot("loaded").await;
-    let errors = b.console_errors().await;
-    assert!(errors.is_empty(), "console errors: {errors:?}");
+    b.assert_clean_console().await;
     b.close().await;
 }
 
@@ -304,8 +308,7 @@ async fn changing_a_parameter_redraws_both_charts() {
         assert!(after[i].0 > 1000, "{} is blank after the change", CHARTS[i]);
     }
     b.screenshot("after-change").await;
-    let errors = b.console_errors().await;
-    assert!(errors.is_empty(), "console errors: {errors:?}");
+    b.assert_clean_console().await;
     b.close().await;
 }
 
@@ -330,7 +333,162 @@ async fn bad_input_shows_a_message_and_keeps_the_charts() {
         assert_eq!(before, after, "charts changed on bad input {text:?}");
     }
     b.screenshot("bad-input").await;
-    let errors = b.console_errors().await;
-    assert!(errors.is_empty(), "console errors: {errors:?}");
+    b.assert_clean_console().await;
+    b.close().await;
+}
+
+impl Browser {
+    async fn select(&self, css: &str, value: &str) {
+        let el = self
+            .client
+            .find(Locator::Css(css))
+            .await
+            .expect("find the select");
+        el.select_by_value(value).await.expect("choose an option");
+        self.settle().await;
+    }
+
+    async fn click_at(&self, css: &str, fx: f64, fy: f64) {
+        // Click at a fraction of the element's size, through a real pointer.
+        let el = self
+            .client
+            .find(Locator::Css(css))
+            .await
+            .expect("find the element");
+        let (_, _, w, h) = el.rectangle().await.expect("its size");
+        use fantoccini::actions::InputSource;
+        let actions = fantoccini::actions::MouseActions::new("mouse".to_string())
+            .then(fantoccini::actions::PointerAction::MoveToElement {
+                element: el.clone(),
+                duration: None,
+                x: (fx - 0.5) * w,
+                y: (fy - 0.5) * h,
+            })
+            .then(fantoccini::actions::PointerAction::Down {
+                button: fantoccini::actions::MOUSE_BUTTON_LEFT,
+            })
+            .then(fantoccini::actions::PointerAction::Up {
+                button: fantoccini::actions::MOUSE_BUTTON_LEFT,
+            });
+        self.client.perform_actions(actions).await.expect("click");
+        self.settle().await;
+    }
+}
+
+#[tokio::test]
+#[ignore = "needs the app build and Chromium; run scripts/test"]
+async fn every_demo_and_every_model_draws_without_errors() {
+    let b = Browser::start().await;
+    b.open_app().await;
+    for (i, expected) in [
+        (0, "Hopf threshold"),
+        (1, "Hopf threshold"),
+        (2, "excludes"),
+    ] {
+        b.select("#example", &i.to_string()).await;
+        let verdict = b.text_of("#verdict").await;
+        assert!(verdict.contains(expected), "demo {i}: verdict {verdict:?}");
+        for id in CHARTS {
+            assert!(b.canvas(id).await.0 > 1000, "demo {i}: {id} is blank");
+        }
+        b.screenshot(&format!("demo-{i}")).await;
+    }
+    for key in [
+        "lotka_volterra",
+        "rosenzweig_macarthur",
+        "competition",
+        "logistic",
+        "exponential",
+    ] {
+        b.select("#model", key).await;
+        assert!(
+            b.canvas("chart-time").await.0 > 1000,
+            "{key}: time series blank"
+        );
+        let long_run = b.text_of("#long-run").await;
+        assert!(!long_run.is_empty(), "{key}: no long-run sentence");
+    }
+    b.assert_clean_console().await;
+    b.close().await;
+}
+
+#[tokio::test]
+#[ignore = "needs the app build and Chromium; run scripts/test"]
+async fn a_parameter_that_flips_stability_changes_the_analysis() {
+    let b = Browser::start().await;
+    b.open_app().await;
+    let before = b.text_of("#verdict").await;
+    assert!(before.contains("above the Hopf threshold"), "{before}");
+    b.type_into("#param-K", "100").await;
+    let after = b.text_of("#verdict").await;
+    assert!(after.contains("below the Hopf threshold"), "{after}");
+    let equilibria = b.text_of("#equilibria").await;
+    assert!(
+        equilibria.contains("stable spiral") || equilibria.contains("stable node"),
+        "{equilibria}"
+    );
+    b.screenshot("stabilised").await;
+    b.close().await;
+}
+
+#[tokio::test]
+#[ignore = "needs the app build and Chromium; run scripts/test"]
+async fn the_slider_moves_the_value_and_redraws() {
+    let b = Browser::start().await;
+    b.open_app().await;
+    let before = b.canvas("chart-time").await;
+    b.client
+        .execute(
+            "const s = document.querySelector('#param-r ~ .slider'); s.value = '700'; s.dispatchEvent(new Event('input', {bubbles: true}));",
+            vec![],
+        )
+        .await
+        .expect("move the slider");
+    b.settle().await;
+    let field = b.client.find(Locator::Css("#param-r")).await.unwrap();
+    let value: f64 = field
+        .prop("value")
+        .await
+        .unwrap()
+        .unwrap_or_default()
+        .parse()
+        .unwrap_or(0.0);
+    assert!(value > 0.25, "slider left r at {value}");
+    assert_ne!(
+        before.1,
+        b.canvas("chart-time").await.1,
+        "no redraw after the slider moved"
+    );
+    b.close().await;
+}
+
+#[tokio::test]
+#[ignore = "needs the app build and Chromium; run scripts/test"]
+async fn clicking_the_phase_plane_adds_trajectories_and_the_button_clears_them() {
+    let b = Browser::start().await;
+    b.open_app().await;
+    let before = b.canvas("chart-phase").await;
+    b.click_at("#chart-phase", 0.6, 0.4).await;
+    b.click_at("#chart-phase", 0.3, 0.7).await;
+    let label = b.text_of("#clear-trajectories").await;
+    assert!(label.contains("(2)"), "{label}");
+    let with = b.canvas("chart-phase").await;
+    assert_ne!(before.1, with.1, "phase plane unchanged after clicks");
+    b.screenshot("clicked").await;
+    b.client
+        .find(Locator::Css("#clear-trajectories"))
+        .await
+        .unwrap()
+        .click()
+        .await
+        .unwrap();
+    b.settle().await;
+    assert!(b.text_of("#clear-trajectories").await.contains("(0)"));
+    assert_eq!(
+        before.1,
+        b.canvas("chart-phase").await.1,
+        "clearing did not restore the plane"
+    );
+    b.assert_clean_console().await;
     b.close().await;
 }

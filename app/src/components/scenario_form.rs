@@ -3,7 +3,9 @@
 
 use yew::prelude::*;
 
-use super::number_field::NumberField;
+use tussock_core::{ParamSpec, Unit};
+
+use super::number_field::{NumberField, SliderRange};
 use crate::state::{Action, Field, Workbench};
 
 #[derive(Properties, PartialEq)]
@@ -34,6 +36,7 @@ pub fn scenario_form(props: &ScenarioFormProps) -> Html {
                 text={bench.text(&field)}
                 error={bench.error(&field).map(|e| AttrValue::from(e.to_string()))}
                 placeholder={p.optional.then(|| AttrValue::from("none"))}
+                slider={slider_for(p)}
                 on_text={Callback::from(move |text| dispatch.emit(Action::SetParam { symbol: symbol.clone(), text }))}
             />
         }
@@ -46,6 +49,7 @@ pub fn scenario_form(props: &ScenarioFormProps) -> Html {
             <NumberField
                 id={format!("initial-{i}")}
                 label={html! { format!("Starting {name}") }}
+                slider={Some(SliderRange { lo: 0.1, hi: 1e4, log: true })}
                 unit="individuals"
                 help={format!("Density of {name} at time 0.")}
                 text={bench.text(&field)}
@@ -63,6 +67,7 @@ pub fn scenario_form(props: &ScenarioFormProps) -> Html {
                 label={html! { "Horizon" }}
                 unit={time_unit.clone()}
                 help="How long to simulate."
+                slider={Some(SliderRange { lo: 1.0, hi: 1e4, log: true })}
                 text={bench.text(&Field::Horizon)}
                 error={bench.error(&Field::Horizon).map(|e| AttrValue::from(e.to_string()))}
                 on_text={Callback::from(move |text| dispatch.emit(Action::SetHorizon { text }))}
@@ -82,5 +87,34 @@ pub fn scenario_form(props: &ScenarioFormProps) -> Html {
                 { horizon }
             </fieldset>
         </form>
+    }
+}
+
+/// A slider over a decade and more either side of the default, inside the
+/// valid range; linear from zero for parameters whose default is zero.
+fn slider_for(p: &ParamSpec) -> Option<SliderRange> {
+    if p.default.is_finite() && p.default > 0.0 {
+        let lo = (p.default / 20.0).max(p.min).max(1e-12);
+        let hi = (p.default * 20.0).min(p.max);
+        (hi > lo).then_some(SliderRange { lo, hi, log: true })
+    } else if p.default == 0.0 {
+        let hi = match p.unit {
+            Unit::Individuals | Unit::IndividualsPerTime => 100.0_f64,
+            _ => 1.0,
+        }
+        .min(p.max);
+        Some(SliderRange {
+            lo: p.min.max(0.0),
+            hi,
+            log: false,
+        })
+    } else if p.symbol == "K" {
+        Some(SliderRange {
+            lo: 1.0,
+            hi: 1e5,
+            log: true,
+        })
+    } else {
+        None
     }
 }

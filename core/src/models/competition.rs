@@ -22,6 +22,7 @@ pub static SPEC: ModelSpec = ModelSpec {
     summary: "Two species each grow logistically and each crowds the other by its competition coefficient.",
     equations: "dN1/dt = r1·N1·(1 − (N1 + α12·N2)/K1)\ndN2/dt = r2·N2·(1 − (N2 + α21·N1)/K2)",
     species: &["species 1", "species 2"],
+    default_initial: &[20.0, 20.0],
     params: &[
         ParamSpec::new("r1", "growth rate of species 1", Unit::PerTime, 0.8, (0.0, 100.0), "Per-capita growth rate of species 1 when rare and alone."),
         ParamSpec::new("r2", "growth rate of species 2", Unit::PerTime, 0.5, (0.0, 100.0), "Per-capita growth rate of species 2 when rare and alone."),

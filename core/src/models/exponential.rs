@@ -55,6 +55,7 @@ pub static SPEC: ModelSpec = ModelSpec {
     summary: "One population whose births and deaths are proportional to its size, with constant immigration and per-capita emigration.",
     equations: "dN/dt = (b − d − emigration)·N + immigration",
     species: &["population"],
+    default_initial: &[10.0],
     params: &[BIRTH, DEATH, IMMIGRATION_SPEC, EMIGRATION_SPEC],
     choice: None,
     rhs,

@@ -26,6 +26,7 @@ pub static SPEC: ModelSpec = ModelSpec {
     summary: "One population whose growth slows to zero at its carrying capacity, with optional immigration, emigration and Allee threshold.",
     equations: "dN/dt = (b − d)·N·(1 − N/K)·φ(N) − emigration·N + immigration\nφ(N) = N/A − 1 with an Allee threshold A, else 1",
     species: &["population"],
+    default_initial: &[10.0],
     params: &[
         BIRTH,
         DEATH,

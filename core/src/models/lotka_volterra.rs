@@ -23,6 +23,7 @@ pub static SPEC: ModelSpec = ModelSpec {
     summary: "Prey grow exponentially (or logistically with K); predators eat prey in proportion to encounters and die at a constant rate.",
     equations: "dN/dt = r·N·(1 − N/K) − a·N·P\ndP/dt = e·a·N·P − m·P",
     species: &["prey", "predator"],
+    default_initial: &[60.0, 5.0],
     params: &[
         ParamSpec::new("r", "prey growth rate", Unit::PerTime, 0.3, (0.0, 100.0), "Per-capita growth rate of the prey without predators."),
         ParamSpec::new("a", "attack rate", Unit::PerIndividualPerTime, 0.02, (0.0, 100.0), "Prey killed per predator per prey individual per time unit."),

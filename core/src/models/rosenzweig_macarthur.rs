@@ -53,6 +53,7 @@ pub static SPEC: ModelSpec = ModelSpec {
     summary: "Prey grow logistically; each predator's kill rate saturates with prey density because handling prey takes time.",
     equations: "dN/dt = r·N·(1 − N/K) − f(N,P)·P\ndP/dt = e·f(N,P)·P − m·P\nf = a·N/(1 + a·h·N) (type II)",
     species: &["prey", "predator"],
+    default_initial: &[100.0, 10.0],
     params: &[
         ParamSpec::new("r", "prey growth rate", Unit::PerTime, 1.0, (0.0, 100.0), "Per-capita growth rate of the prey at low density without predators."),
         ParamSpec::new("K", "prey carrying capacity", Unit::Individuals, 500.0, (1e-9, 1e12), "Prey density at which prey growth stops."),
