@@ -90,7 +90,11 @@ fn run(file: &Path, json: bool) -> Result<()> {
     let stdout = std::io::stdout();
     let mut out = std::io::BufWriter::new(stdout.lock());
     if json {
-        let value = trajectory_json(&trajectory, &problem.species, &problem.time_unit);
+        let mut value = trajectory_json(&trajectory, &problem.species, &problem.time_unit);
+        value["pulses"] = serde_json::to_value(&trajectory.pulses)?;
+        value["crossings"] = serde_json::to_value(&trajectory.crossings)?;
+        value["metrics"] =
+            serde_json::to_value(tussock_core::metrics::metrics(&problem, &trajectory))?;
         serde_json::to_writer(&mut out, &value)?;
         writeln!(out)?;
     } else {

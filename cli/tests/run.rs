@@ -43,10 +43,10 @@ fn run_writes_csv_with_header_and_one_row_per_output_time() {
     let text = String::from_utf8(out.stdout).unwrap();
     let lines: Vec<&str> = text.lines().collect();
     assert_eq!(lines[0], "t,spider mite,predatory mite");
-    // t_end 120 with output_step 1: times 0, 1, …, 120.
-    assert_eq!(lines.len(), 1 + 121);
-    assert_eq!(lines[1], "0,60,5");
-    let last: Vec<f64> = lines[121].split(',').map(|v| v.parse().unwrap()).collect();
+    // t_end 120 with output_step 0.25: times 0, 0.25, …, 120.
+    assert_eq!(lines.len(), 1 + 481);
+    assert_eq!(lines[1], "0,20,1");
+    let last: Vec<f64> = lines[481].split(',').map(|v| v.parse().unwrap()).collect();
     assert_eq!(last[0], 120.0);
     assert!(last[1] > 0.0 && last[2] > 0.0);
 }
@@ -61,7 +61,7 @@ fn run_json_reports_stop_reason_and_step_statistics() {
     assert!(out.status.success());
     let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(v["stop"]["kind"], "finished");
-    assert_eq!(v["times"].as_array().unwrap().len(), 121);
+    assert_eq!(v["times"].as_array().unwrap().len(), 481);
     assert!(v["stats"]["accepted_steps"].as_u64().unwrap() > 10);
 }
 

@@ -10,6 +10,8 @@
 
 pub mod analysis;
 pub mod bench_problems;
+pub mod events;
+pub mod metrics;
 pub mod model;
 pub mod models;
 pub mod scenario;

@@ -9,6 +9,7 @@ use std::collections::BTreeMap;
 
 use serde::{Deserialize, Serialize};
 
+use crate::events::{EventSpec, Schedule};
 use crate::model::{ModelSpec, Params, State};
 use crate::models;
 use crate::solve::SolverOptions;
@@ -36,6 +37,13 @@ pub struct Scenario {
     /// individuals per time unit, in state order.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub harvest: Option<Vec<f64>>,
+    /// Releases, harvests and stocking on the timeline.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub events: Vec<EventSpec>,
+    /// Economic threshold and injury level of the pest, quasi-extinction
+    /// levels of each species.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub thresholds: Option<ThresholdSpec>,
     /// Initial densities in the model's state order.
     pub initial: Vec<f64>,
     /// End of the simulated period, in time units.
@@ -55,6 +63,108 @@ pub struct Scenario {
     /// Absolute tolerance of the integrator (individuals).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub atol: Option<f64>,
+}
+
+/// Thresholds as written in a scenario file.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ThresholdSpec {
+    /// Index of the pest species (default 0).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub pest: Option<usize>,
+    /// Density at which control should start so the pest never reaches the
+    /// economic injury level (Stern et al. 1959).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub economic_threshold: Option<f64>,
+    /// Lowest density at which damage costs as much as control (Stern et
+    /// al. 1959).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub economic_injury_level: Option<f64>,
+    /// Per species, a density below which it counts as functionally extinct
+    /// (null for none).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub quasi_extinction: Option<Vec<Option<f64>>>,
+}
+
+/// Checked thresholds.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Thresholds {
+    pub pest: usize,
+    pub economic_threshold: Option<f64>,
+    pub economic_injury_level: Option<f64>,
+    pub quasi_extinction: [Option<f64>; 2],
+}
+
+impl Thresholds {
+    /// (species, level) pairs whose crossings the solver locates.
+    pub fn levels(&self) -> Vec<(usize, f64)> {
+        let mut out = Vec::new();
+        for level in [self.economic_threshold, self.economic_injury_level]
+            .into_iter()
+            .flatten()
+        {
+            out.push((self.pest, level));
+        }
+        for (i, q) in self.quasi_extinction.iter().enumerate() {
+            if let Some(q) = q {
+                out.push((i, *q));
+            }
+        }
+        out
+    }
+
+    fn from_spec(spec: Option<&ThresholdSpec>, n: usize) -> Result<Thresholds, ScenarioError> {
+        let Some(spec) = spec else {
+            return Ok(Thresholds::default());
+        };
+        let pest = spec.pest.unwrap_or(0);
+        if pest >= n {
+            return Err(invalid(
+                "thresholds.pest",
+                format!("no species {pest} (this model has {n})"),
+            ));
+        }
+        let mut t = Thresholds {
+            pest,
+            ..Thresholds::default()
+        };
+        if let Some(v) = spec.economic_threshold {
+            check_range("thresholds.economic_threshold", v, 1e-300, MAX_DENSITY)?;
+            t.economic_threshold = Some(v);
+        }
+        if let Some(v) = spec.economic_injury_level {
+            check_range("thresholds.economic_injury_level", v, 1e-300, MAX_DENSITY)?;
+            t.economic_injury_level = Some(v);
+        }
+        if let (Some(et), Some(eil)) = (t.economic_threshold, t.economic_injury_level) {
+            if et > eil {
+                return Err(invalid(
+                    "thresholds.economic_threshold",
+                    format!("must not exceed the economic injury level ({eil}), got {et}"),
+                ));
+            }
+        }
+        if let Some(q) = &spec.quasi_extinction {
+            if q.len() != n {
+                return Err(invalid(
+                    "thresholds.quasi_extinction",
+                    format!("needs {n} entries (null for none), got {}", q.len()),
+                ));
+            }
+            for (i, v) in q.iter().enumerate() {
+                if let Some(v) = v {
+                    check_range(
+                        &format!("thresholds.quasi_extinction[{i}]"),
+                        *v,
+                        1e-300,
+                        MAX_DENSITY,
+                    )?;
+                    t.quasi_extinction[i] = Some(*v);
+                }
+            }
+        }
+        Ok(t)
+    }
 }
 
 /// Why a scenario could not be used.
@@ -94,6 +204,8 @@ pub struct Problem {
     pub species: Vec<String>,
     pub time_unit: String,
     pub solver: SolverOptions,
+    pub schedule: Schedule,
+    pub thresholds: Thresholds,
 }
 
 /// Largest horizon accepted, in time units.
@@ -130,6 +242,8 @@ impl Scenario {
             params,
             functional_response: None,
             harvest: None,
+            events: Vec::new(),
+            thresholds: None,
             initial,
             t_end,
             output_step: None,
@@ -266,6 +380,9 @@ impl Scenario {
         let atol = self.atol.unwrap_or(defaults.atol);
         check_range("atol", atol, 1e-14, 1e3)?;
 
+        let schedule = Schedule::from_specs(&self.events, n, &species, self.t_end)?;
+        let thresholds = Thresholds::from_spec(self.thresholds.as_ref(), n)?;
+
         Ok(Problem {
             model,
             params,
@@ -279,6 +396,8 @@ impl Scenario {
                 atol,
                 ..defaults
             },
+            schedule,
+            thresholds,
         })
     }
 }

@@ -14,6 +14,7 @@ use ode_solvers::dop_shared::IntegrationError;
 use ode_solvers::{Dopri5, OutputType, System};
 use serde::Serialize;
 
+use crate::events::Schedule;
 use crate::model::{ModelSpec, Params, State};
 use crate::scenario::Problem;
 
@@ -100,10 +101,37 @@ pub struct StepStats {
 pub struct Trajectory {
     pub times: Vec<f64>,
     /// One entry per time; only the first `n_species` components are used.
+    /// At a pulse time the state after the pulse is reported.
     pub states: Vec<State>,
     pub n_species: usize,
     pub stop: StopReason,
     pub stats: StepStats,
+    /// Every pulse applied, with the densities just before and after.
+    pub pulses: Vec<AppliedPulse>,
+    /// Crossings of the levels asked for, located to the solver tolerance.
+    pub crossings: Vec<Crossing>,
+}
+
+/// A pulse as it happened.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct AppliedPulse {
+    pub time: f64,
+    pub species: usize,
+    pub before: f64,
+    pub after: f64,
+    pub event: usize,
+}
+
+/// A species passing a level.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct Crossing {
+    pub time: f64,
+    pub species: usize,
+    pub level: f64,
+    /// True when the density rises through the level.
+    pub rising: bool,
+    /// True when a pulse made the jump across it.
+    pub by_pulse: bool,
 }
 
 impl Trajectory {
@@ -163,22 +191,26 @@ impl System<f64, State> for &Rhs<'_> {
     }
 }
 
-/// Integrate a problem from t = 0 to its horizon.
+/// Integrate a problem from t = 0 to its horizon, applying its schedule of
+/// interventions and locating crossings of its thresholds.
 ///
 /// Output is on an even grid of spacing `output_step` (shrunk slightly when
 /// the horizon is not a whole multiple of it, so the last point is `t_end`).
 pub fn solve(problem: &Problem) -> Trajectory {
-    solve_with(
+    integrate(
         problem.model,
         &problem.params,
         problem.initial,
         problem.t_end,
         problem.output_step,
         &problem.solver,
+        &problem.schedule,
+        &problem.thresholds.levels(),
     )
 }
 
-/// [`solve`] with its pieces given separately, for callers that vary one.
+/// [`solve`] without interventions or thresholds, with its pieces given
+/// separately, for callers that vary one.
 pub fn solve_with(
     model: &ModelSpec,
     params: &Params,
@@ -187,15 +219,39 @@ pub fn solve_with(
     output_step: f64,
     options: &SolverOptions,
 ) -> Trajectory {
-    let n_intervals = (t_end / output_step - 1e-9).ceil().max(1.0);
-    let dx = t_end / n_intervals;
-    let n_points = n_intervals as usize + 1;
-    // ode_solvers 0.6.2 extrapolates its last dense-output point from the
-    // step before the end when a grid time lands within 1e-9 of `x_end`
-    // (errors of 1e-5 relative seen, whatever the tolerance). Integrating
-    // half an output step past the horizon keeps every grid time inside a
-    // step; the points past `t_end` are dropped below.
-    let x_end = t_end + 0.5 * dx;
+    integrate(
+        model,
+        params,
+        initial,
+        t_end,
+        output_step,
+        options,
+        &Schedule::default(),
+        &[],
+    )
+}
+
+/// Outputs of one stretch of integration.
+struct Piece {
+    states: Vec<State>,
+    stop: StopReason,
+    stats: StepStats,
+}
+
+fn add_stats(total: &mut StepStats, more: StepStats) {
+    total.rhs_evaluations = total.rhs_evaluations.saturating_add(more.rhs_evaluations);
+    total.accepted_steps = total.accepted_steps.saturating_add(more.accepted_steps);
+    total.rejected_steps = total.rejected_steps.saturating_add(more.rejected_steps);
+}
+
+fn run_dopri(
+    model: &ModelSpec,
+    params: &Params,
+    x0: State,
+    (t0, t1): (f64, f64),
+    dense_step: Option<f64>,
+    options: &SolverOptions,
+) -> Piece {
     let rhs = Rhs {
         model,
         params,
@@ -204,38 +260,41 @@ pub fn solve_with(
         failure: Cell::new(None),
         evaluations: Cell::new(0),
     };
+    // ode_solvers 0.6.2 extrapolates its last dense-output point from the
+    // step before the end when a grid time lands within 1e-9 of `x_end`
+    // (errors of 1e-5 relative seen, whatever the tolerance). Integrating
+    // half an output step past the last grid time keeps every grid time
+    // inside a step; the points past it are dropped by the caller.
+    let (x_end, out_type, dx) = match dense_step {
+        Some(dx) => (t1 + 0.5 * dx, OutputType::Dense, dx),
+        None => (t1, OutputType::Sparse, t1 - t0),
+    };
     let mut stepper = Dopri5::from_param(
         &rhs,
-        0.0,
+        t0,
         x_end,
         dx,
-        initial,
+        x0,
         options.rtol,
         options.atol,
         0.9,  // safety factor (Hairer et al. default)
         0.04, // PI controller beta (Hairer et al. default)
         0.2,  // smallest step-size ratio
         10.0, // largest step-size ratio
-        x_end,
+        x_end - t0,
         0.0, // initial step chosen automatically
         options.max_steps,
         // Never give up on stiffness: explicit steps stay accurate on
         // moderately stiff problems, merely smaller; max_steps bounds the
         // cost and says so if exceeded.
         u32::MAX,
-        OutputType::Dense,
+        out_type,
     );
     let outcome = stepper.integrate();
     let (raw_times, raw_states) = stepper.results().get();
     let mut times = raw_times.clone();
     let mut states: Vec<State> = raw_states.iter().map(|s| s.map(|v| v.max(0.0))).collect();
     drop(stepper);
-    times.truncate(n_points);
-    states.truncate(n_points);
-    if times.len() == n_points {
-        // Exactly the horizon, not t_end plus accumulated rounding.
-        times[n_points - 1] = t_end;
-    }
     // A failing state may have been written out before it was checked; keep
     // only finite output.
     while states
@@ -249,15 +308,17 @@ pub fn solve_with(
         rhs_evaluations: rhs.evaluations.get(),
         ..StepStats::default()
     };
-    let complete = times.len() == n_points;
+    let reached = times
+        .last()
+        .is_some_and(|&t| t >= t1 - 1e-9 * t1.abs().max(1.0));
     let stop = match (rhs.failure.get(), outcome) {
         (None, Ok(s)) => {
             stats.accepted_steps = s.accepted_steps;
             stats.rejected_steps = s.rejected_steps;
             StopReason::Finished
         }
-        // Trouble in the half step past the horizon does not count.
-        _ if complete => StopReason::Finished,
+        // Trouble in the half step past the end does not count.
+        _ if reached && dense_step.is_some() => StopReason::Finished,
         (Some(failure), _) => failure,
         (None, Err(IntegrationError::MaxNumStepReached { x, .. })) => {
             StopReason::TooManySteps { t: x }
@@ -267,11 +328,246 @@ pub fn solve_with(
         }
         (None, Err(IntegrationError::StiffnessDetected { x })) => StopReason::Stiff { t: x },
     };
-    Trajectory {
-        times,
+    Piece {
         states,
-        n_species: model.n_species(),
         stop,
         stats,
     }
+}
+
+/// The state at `t1` from `x0` at `t0`.
+fn advance(
+    model: &ModelSpec,
+    params: &Params,
+    x0: State,
+    t0: f64,
+    t1: f64,
+    options: &SolverOptions,
+    stats: &mut StepStats,
+) -> Result<State, StopReason> {
+    if t1 <= t0 {
+        return Ok(x0);
+    }
+    let piece = run_dopri(model, params, x0, (t0, t1), None, options);
+    add_stats(stats, piece.stats);
+    match (piece.stop, piece.states.last()) {
+        (StopReason::Finished, Some(x)) => Ok(*x),
+        (StopReason::Finished, None) => Ok(x0),
+        (stop, _) => Err(stop),
+    }
+}
+
+/// Params with the schedule's rates active over a segment added to harvest.
+fn segment_params(params: &Params, schedule: &Schedule, t: f64) -> Params {
+    let mut p = *params;
+    let extra = schedule.removal_at(t);
+    p.harvest[0] += extra[0];
+    p.harvest[1] += extra[1];
+    p
+}
+
+#[allow(clippy::too_many_arguments)]
+fn integrate(
+    model: &ModelSpec,
+    params: &Params,
+    initial: State,
+    t_end: f64,
+    output_step: f64,
+    options: &SolverOptions,
+    schedule: &Schedule,
+    levels: &[(usize, f64)],
+) -> Trajectory {
+    let n_intervals = (t_end / output_step - 1e-9).ceil().max(1.0) as usize;
+    let dx = t_end / n_intervals as f64;
+    let grid = |k: usize| {
+        if k == n_intervals {
+            t_end
+        } else {
+            k as f64 * dx
+        }
+    };
+    let n = model.n_species();
+    let mut out = Trajectory {
+        times: Vec::with_capacity(n_intervals + 1),
+        states: Vec::with_capacity(n_intervals + 1),
+        n_species: n,
+        stop: StopReason::Finished,
+        stats: StepStats::default(),
+        pulses: Vec::new(),
+        crossings: Vec::new(),
+    };
+    let mut x = initial;
+    let apply_pulses_at = |t: f64, x: &mut State, out: &mut Trajectory| {
+        for p in schedule.pulses.iter().filter(|p| p.time == t) {
+            let before = x[p.species];
+            x[p.species] = p.apply(before);
+            out.pulses.push(AppliedPulse {
+                time: t,
+                species: p.species,
+                before,
+                after: x[p.species],
+                event: p.event,
+            });
+            for &(species, level) in levels {
+                if species == p.species && (before < level) != (x[species] < level) {
+                    out.crossings.push(Crossing {
+                        time: t,
+                        species,
+                        level,
+                        rising: x[species] >= level,
+                        by_pulse: true,
+                    });
+                }
+            }
+        }
+    };
+    apply_pulses_at(0.0, &mut x, &mut out);
+    out.times.push(0.0);
+    out.states.push(x);
+
+    let mut bounds = vec![0.0];
+    bounds.extend(schedule.breakpoints(t_end));
+    bounds.push(t_end);
+    let mut next_k = 1; // next grid index to output
+    for w in bounds.windows(2) {
+        let (a, b) = (w[0], w[1]);
+        let p = segment_params(params, schedule, a);
+        let seg_start = (a, x);
+        // Grid indices inside (a, b].
+        let first = next_k;
+        let mut last = first;
+        while last <= n_intervals && grid(last) <= b + 1e-9 * dx {
+            last += 1;
+        }
+        let outputs = first..last;
+        let mut t = a;
+        let mut failed = None;
+        if !outputs.is_empty() {
+            // Reach the first grid time exactly, then dense output on the grid.
+            let g0 = grid(first);
+            let start_on_grid = (a - grid(first - 1)).abs() <= 1e-9 * dx && first >= 1;
+            let (from, x_from) = if start_on_grid {
+                (grid(first - 1), x)
+            } else {
+                match advance(model, &p, x, a, g0, options, &mut out.stats) {
+                    Ok(y) => {
+                        out.times.push(g0);
+                        out.states.push(y.map(|v| v.max(0.0)));
+                        (g0, y)
+                    }
+                    Err(stop) => {
+                        failed = Some(stop);
+                        (a, x)
+                    }
+                }
+            };
+            let already = if start_on_grid { 0 } else { 1 };
+            let remaining = outputs.len() - already;
+            if failed.is_none() && remaining > 0 {
+                let g_last = grid(last - 1);
+                let piece = run_dopri(model, &p, x_from, (from, g_last), Some(dx), options);
+                add_stats(&mut out.stats, piece.stats);
+                // The piece starts with `from` itself; take the grid times after it.
+                for (i, state) in piece.states.iter().enumerate().skip(1).take(remaining) {
+                    out.times.push(grid(first + already + i - 1));
+                    out.states.push(*state);
+                }
+                let got = piece.states.len().saturating_sub(1).min(remaining);
+                if got < remaining || !piece.stop.is_finished() {
+                    failed = Some(piece.stop);
+                }
+            }
+            if let (None, Some(&last_t), Some(&last_x)) =
+                (failed, out.times.last(), out.states.last())
+            {
+                t = last_t;
+                x = last_x;
+            }
+        }
+        next_k = last;
+        if failed.is_none() && b > t + 1e-12 * b.abs().max(1.0) {
+            match advance(model, &p, x, t, b, options, &mut out.stats) {
+                Ok(y) => x = y.map(|v| v.max(0.0)),
+                Err(stop) => failed = Some(stop),
+            }
+        }
+        if !levels.is_empty() {
+            let found = locate_crossings(model, &p, seg_start, (b, x), &out, levels, options);
+            out.crossings.extend(found);
+        }
+        if let Some(stop) = failed {
+            out.stop = stop;
+            break;
+        }
+        if b < t_end || schedule.pulses.iter().any(|q| q.time == t_end) {
+            apply_pulses_at(b, &mut x, &mut out);
+            // A pulse on a grid time: report the state after it.
+            if out
+                .times
+                .last()
+                .is_some_and(|&tl| (tl - b).abs() <= 1e-9 * dx)
+            {
+                if let Some(s) = out.states.last_mut() {
+                    *s = x;
+                }
+            }
+        }
+    }
+    out.crossings.sort_by(|a, b| a.time.total_cmp(&b.time));
+    out
+}
+
+/// Crossings of `levels` inside one segment (no pulse inside it), found as
+/// sign changes between output times and located by bisection on fresh
+/// integrations from the left output time.
+fn locate_crossings(
+    model: &ModelSpec,
+    params: &Params,
+    (a, x_a): (f64, State),
+    (b, x_b): (f64, State),
+    out: &Trajectory,
+    levels: &[(usize, f64)],
+    options: &SolverOptions,
+) -> Vec<Crossing> {
+    // Points of this segment: its start, then the outputs in (a, b].
+    let mut points: Vec<(f64, State)> = vec![(a, x_a)];
+    for (t, s) in out.times.iter().zip(&out.states) {
+        if *t > a && *t <= b {
+            points.push((*t, *s));
+        }
+    }
+    if points.last().is_some_and(|(t, _)| *t < b) {
+        points.push((b, x_b));
+    }
+    let mut found = Vec::new();
+    let mut scratch = StepStats::default();
+    for w in points.windows(2) {
+        let ((t0, x0), (t1, x1)) = (w[0], w[1]);
+        for &(species, level) in levels {
+            let (below0, below1) = (x0[species] < level, x1[species] < level);
+            if below0 == below1 {
+                continue;
+            }
+            let (mut lo, mut hi) = (t0, t1);
+            for _ in 0..60 {
+                if hi - lo <= 1e-12 * hi.abs().max(1.0) {
+                    break;
+                }
+                let mid = 0.5 * (lo + hi);
+                match advance(model, params, x0, t0, mid, options, &mut scratch) {
+                    Ok(y) if (y[species] < level) == below0 => lo = mid,
+                    Ok(_) => hi = mid,
+                    Err(_) => break,
+                }
+            }
+            found.push(Crossing {
+                time: 0.5 * (lo + hi),
+                species,
+                level,
+                rising: below0,
+                by_pulse: false,
+            });
+        }
+    }
+    found
 }

@@ -11,7 +11,10 @@ use crate::state::{Action, Field, Workbench};
 pub const TIME_UNITS: [&str; 5] = ["hours", "days", "weeks", "months", "years"];
 
 /// A `change` handler for a select that sends `action(value)`.
-pub fn on_select(dispatcher: &UseReducerDispatcher<Workbench>, action: fn(String) -> Action) -> Callback<Event> {
+pub fn on_select(
+    dispatcher: &UseReducerDispatcher<Workbench>,
+    action: fn(String) -> Action,
+) -> Callback<Event> {
     let d = dispatcher.clone();
     Callback::from(move |e: Event| {
         let select: HtmlSelectElement = e.target_unchecked_into();
