@@ -41,8 +41,67 @@ enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Find the smallest release that meets a goal, over release size, time and number of releases.
+    Plan(PlanArgs),
     /// List the models and their parameters.
     Models,
+}
+
+#[derive(clap::Args)]
+struct PlanArgs {
+    /// Scenario file (JSON).
+    file: PathBuf,
+    /// pest-below: the pest under its economic threshold from --by to --until;
+    /// persist: --persist-species stays at or above --level until --until.
+    #[arg(long, value_parser = ["pest-below", "persist"])]
+    goal: String,
+    /// Start of the window the pest must stay below its threshold (pest-below).
+    #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
+    by: f64,
+    /// End of the goal window; default the horizon.
+    #[arg(long, allow_negative_numbers = true)]
+    until: Option<f64>,
+    /// Index of the species released (default 1, the predator).
+    #[arg(long, default_value_t = 1)]
+    species: usize,
+    /// Count release sizes as a ratio to the other species at release time (0.1 = 1:10) instead of individuals.
+    #[arg(long)]
+    ratio: bool,
+    /// Largest size per release searched.
+    #[arg(long, allow_negative_numbers = true)]
+    max: f64,
+    /// First release times to try, comma-separated.
+    #[arg(
+        long,
+        value_delimiter = ',',
+        default_value = "0",
+        allow_negative_numbers = true
+    )]
+    times: Vec<f64>,
+    /// Numbers of releases to try, comma-separated.
+    #[arg(long, value_delimiter = ',', default_value = "1")]
+    counts: Vec<u32>,
+    /// Spacing of repeated releases, in time units.
+    #[arg(long, default_value_t = 7.0, allow_negative_numbers = true)]
+    every: f64,
+    /// Species that must persist (persist; default the released species).
+    #[arg(long)]
+    persist_species: Option<usize>,
+    /// Level it must stay at or above (persist).
+    #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
+    level: f64,
+    /// A species that must never fall below --floor (persist), e.g. the prey.
+    #[arg(long)]
+    floor_species: Option<usize>,
+    /// The lowest density allowed for --floor-species.
+    #[arg(long, allow_negative_numbers = true)]
+    floor: Option<f64>,
+    /// Points on the response curve.
+    #[arg(long, default_value_t = 24)]
+    curve_points: usize,
+    /// Write one JSON object instead of a table.
+    #[arg(long)]
+    json: bool,
 }
 
 fn main() -> ExitCode {
@@ -50,6 +109,7 @@ fn main() -> ExitCode {
     let outcome = match cli.command {
         Command::Run { file, json } => run(&file, json),
         Command::Analyze { file, json } => analyze(&file, json),
+        Command::Plan(args) => plan(&args),
         Command::Models => models(),
     };
     match outcome {
@@ -252,6 +312,93 @@ fn analyze(file: &Path, json: bool) -> Result<()> {
         lr.window.1,
         ranges.join(", ")
     );
+    Ok(())
+}
+
+fn plan(args: &PlanArgs) -> Result<()> {
+    use tussock_core::plan::{self, Goal, PlanRequest, SizeUnit};
+    let problem = load_problem(&args.file)?;
+    let until = args.until.unwrap_or(problem.t_end);
+    let goal = match args.goal.as_str() {
+        "pest-below" => Goal::PestBelowThreshold { by: args.by, until },
+        _ => Goal::Persist {
+            species: args.persist_species.unwrap_or(args.species),
+            level: args.level,
+            until,
+            floor: match (args.floor_species, args.floor) {
+                (Some(s), Some(f)) => Some((s, f)),
+                (None, None) => None,
+                _ => anyhow::bail!("--floor-species and --floor go together"),
+            },
+        },
+    };
+    let request = PlanRequest {
+        goal,
+        species: args.species,
+        unit: if args.ratio {
+            SizeUnit::RatioToOther
+        } else {
+            SizeUnit::Individuals
+        },
+        max_size: args.max,
+        times: args.times.clone(),
+        counts: args.counts.clone(),
+        every: args.every,
+        curve_points: args.curve_points,
+    };
+    let result = plan::plan(&problem, &request)?;
+    if args.json {
+        println!(
+            "{}",
+            serde_json::to_string(&serde_json::json!({ "goal": request.goal, "plan": result }))?
+        );
+        return Ok(());
+    }
+    let names = &problem.species;
+    let unit = &problem.time_unit;
+    let size = |v: f64| {
+        if args.ratio {
+            format!(
+                "{} per {} (1:{:.1})",
+                analysis::round_sig(v, 4),
+                names[1 - args.species.min(1)],
+                1.0 / v
+            )
+        } else {
+            format!("{} {}", analysis::round_sig(v, 4), names[args.species])
+        }
+    };
+    println!("first release ({unit}) | releases | smallest per release | total | note");
+    for row in &result.rows {
+        let (smallest, total) = match (row.smallest, row.total) {
+            (Some(s), Some(t)) => (size(s), analysis::round_sig(t, 4)),
+            _ => (format!("none up to {}", size(args.max)), "–".to_string()),
+        };
+        let mut notes = Vec::new();
+        if row.at_lower_bound {
+            notes.push("the smallest size searched already works");
+        }
+        if row.non_monotone {
+            notes.push("a larger release fails again: check the curve");
+        }
+        let note = notes.join("; ");
+        println!(
+            "{} | {} every {} | {smallest} | {total} | {note}",
+            row.time, row.count, row.every
+        );
+    }
+    match result.best.map(|i| &result.rows[i]) {
+        Some(best) => println!(
+            "Smallest total: {} release(s) from {} {unit} of {} each.",
+            best.count,
+            best.time,
+            size(best.smallest.unwrap_or(f64::NAN))
+        ),
+        None => println!("No release in the searched range meets the goal."),
+    }
+    if args.ratio {
+        println!("Release ratios of about 1:10 to 1:50 predator:prey are common practice for predatory mites (from memory; follow the supplier's label and local advice).");
+    }
     Ok(())
 }
 

@@ -109,3 +109,37 @@ fn a_missing_file_is_named_in_the_error() {
         "{stderr}"
     );
 }
+
+/// `tussock plan FILE ARGS…` with the arguments given as one string.
+fn plan_on(file: &str, args: &str) -> Output {
+    let path = example(file);
+    let mut all = vec!["plan", path.to_str().unwrap()];
+    all.extend(args.split_whitespace());
+    tussock(&all)
+}
+
+#[test]
+fn plan_reports_the_smallest_release_and_refuses_bad_requests() {
+    let file = "greenhouse-plan.json";
+    let out = plan_on(
+        file,
+        "--goal pest-below --by 28 --until 90 --ratio --max 1 --times 7 --counts 1,2 --json",
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["plan"]["rows"].as_array().unwrap().len(), 2);
+    assert_eq!(v["goal"]["kind"], "pest_below_threshold");
+    let table = plan_on(file, "--goal pest-below --by 28 --max 1 --ratio");
+    let text = String::from_utf8_lossy(&table.stdout);
+    assert!(text.contains("common practice"), "{text}");
+    let bad = plan_on(file, "--goal pest-below --by 28 --max -1");
+    assert!(!bad.status.success());
+    assert!(String::from_utf8_lossy(&bad.stderr)
+        .contains("the largest release must be a positive number"));
+    let no_et = plan_on("reserve-reintroduction.json", "--goal pest-below --max 5");
+    assert!(String::from_utf8_lossy(&no_et.stderr).contains("economic threshold"));
+}

@@ -24,6 +24,13 @@ pub struct EventSpec {
     /// Individuals added by a pulse (a release, stocking).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub add: Option<f64>,
+    /// Individuals added by a pulse per individual of species `ratio_to` at
+    /// that moment (a release at a predator:prey ratio, e.g. 0.1 for 1:10).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub add_ratio: Option<f64>,
+    /// The species `add_ratio` refers to (default: the other species).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ratio_to: Option<usize>,
     /// Fraction of the species removed by a pulse (harvest, cull, spray), 0–1.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub remove_fraction: Option<f64>,
@@ -53,6 +60,11 @@ pub struct EventSpec {
 #[serde(rename_all = "snake_case")]
 pub enum PulseAction {
     Add(f64),
+    /// Add `ratio` individuals per individual of species `of`.
+    AddRatio {
+        ratio: f64,
+        of: usize,
+    },
     RemoveFraction(f64),
 }
 
@@ -66,10 +78,12 @@ pub struct Pulse {
 }
 
 impl Pulse {
-    /// The density after the pulse, from the density before.
-    pub fn apply(&self, before: f64) -> f64 {
+    /// The density of the pulse's species after it, given the state before.
+    pub fn apply(&self, state: &crate::model::State) -> f64 {
+        let before = state[self.species];
         match self.action {
             PulseAction::Add(n) => (before + n).max(0.0),
+            PulseAction::AddRatio { ratio, of } => (before + ratio * state[of]).max(0.0),
             PulseAction::RemoveFraction(f) => before * (1.0 - f),
         }
     }
@@ -173,6 +187,7 @@ impl Schedule {
             }
             let given = [
                 e.add.is_some(),
+                e.add_ratio.is_some(),
                 e.remove_fraction.is_some(),
                 e.harvest_rate.is_some(),
                 e.stocking_rate.is_some(),
@@ -180,8 +195,11 @@ impl Schedule {
             if given.iter().filter(|g| **g).count() != 1 {
                 return Err(invalid(
                     format!("events[{i}]"),
-                    "give exactly one of add, remove_fraction, harvest_rate, stocking_rate",
+                    "give exactly one of add, add_ratio, remove_fraction, harvest_rate, stocking_rate",
                 ));
+            }
+            if e.ratio_to.is_some() && e.add_ratio.is_none() {
+                return Err(invalid(path("ratio_to"), "only add_ratio takes ratio_to"));
             }
             if let Some(rate) = e.harvest_rate.or(e.stocking_rate) {
                 let field = if e.harvest_rate.is_some() {
@@ -229,8 +247,24 @@ impl Schedule {
                     "only rates (harvest_rate, stocking_rate) take an end time",
                 ));
             }
-            let action = match (e.add, e.remove_fraction) {
-                (Some(n), _) => {
+            let action = match (e.add, e.add_ratio, e.remove_fraction) {
+                (_, Some(ratio), _) => {
+                    if !(0.0..=1e6).contains(&ratio) {
+                        return Err(invalid(
+                            path("add_ratio"),
+                            format!("must be a ratio ≥ 0, got {ratio}"),
+                        ));
+                    }
+                    let of = e.ratio_to.unwrap_or(if e.species == 0 { 1 } else { 0 });
+                    if of >= n_species || of == e.species {
+                        return Err(invalid(
+                            path("ratio_to"),
+                            format!("must name another species of this model, got {of}"),
+                        ));
+                    }
+                    PulseAction::AddRatio { ratio, of }
+                }
+                (Some(n), _, _) => {
                     if !(0.0..=1e12).contains(&n) {
                         return Err(invalid(
                             path("add"),
@@ -239,7 +273,7 @@ impl Schedule {
                     }
                     PulseAction::Add(n)
                 }
-                (_, Some(f)) => {
+                (_, _, Some(f)) => {
                     if !(0.0..=1.0).contains(&f) {
                         return Err(invalid(
                             path("remove_fraction"),

@@ -14,6 +14,7 @@ pub mod events;
 pub mod metrics;
 pub mod model;
 pub mod models;
+pub mod plan;
 pub mod scenario;
 pub mod solve;
 

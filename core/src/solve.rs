@@ -400,7 +400,7 @@ fn integrate(
     let apply_pulses_at = |t: f64, x: &mut State, out: &mut Trajectory| {
         for p in schedule.pulses.iter().filter(|p| p.time == t) {
             let before = x[p.species];
-            x[p.species] = p.apply(before);
+            x[p.species] = p.apply(x);
             out.pulses.push(AppliedPulse {
                 time: t,
                 species: p.species,
@@ -518,8 +518,8 @@ fn integrate(
 }
 
 /// Crossings of `levels` inside one segment (no pulse inside it), found as
-/// sign changes between output times and located by bisection on fresh
-/// integrations from the left output time.
+/// sign changes between output times and located by the Illinois method on
+/// fresh integrations from the left output time (to 1e-10 in time).
 fn locate_crossings(
     model: &ModelSpec,
     params: &Params,
@@ -548,16 +548,48 @@ fn locate_crossings(
             if below0 == below1 {
                 continue;
             }
+            // Illinois (modified regula falsi) on g(t) = x(t) − level, each
+            // g from a fresh integration from the left output time.
+            let g = |t: f64, scratch: &mut StepStats| {
+                advance(model, params, x0, t0, t, options, scratch).map(|y| y[species] - level)
+            };
             let (mut lo, mut hi) = (t0, t1);
+            let (mut g_lo, mut g_hi) = (x0[species] - level, x1[species] - level);
+            let mut side = 0;
             for _ in 0..60 {
-                if hi - lo <= 1e-12 * hi.abs().max(1.0) {
+                if hi - lo <= 1e-10 * hi.abs().max(1.0) {
                     break;
                 }
-                let mid = 0.5 * (lo + hi);
-                match advance(model, params, x0, t0, mid, options, &mut scratch) {
-                    Ok(y) if (y[species] < level) == below0 => lo = mid,
-                    Ok(_) => hi = mid,
-                    Err(_) => break,
+                let guess = if g_hi != g_lo {
+                    hi - g_hi * (hi - lo) / (g_hi - g_lo)
+                } else {
+                    0.5 * (lo + hi)
+                };
+                let t = if guess > lo && guess < hi {
+                    guess
+                } else {
+                    0.5 * (lo + hi)
+                };
+                let Ok(gt) = g(t, &mut scratch) else { break };
+                if gt == 0.0 {
+                    lo = t;
+                    hi = t;
+                    break;
+                }
+                if (gt < 0.0) == (g_lo < 0.0) {
+                    lo = t;
+                    g_lo = gt;
+                    if side == -1 {
+                        g_hi *= 0.5;
+                    }
+                    side = -1;
+                } else {
+                    hi = t;
+                    g_hi = gt;
+                    if side == 1 {
+                        g_lo *= 0.5;
+                    }
+                    side = 1;
                 }
             }
             found.push(Crossing {

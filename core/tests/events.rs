@@ -183,7 +183,7 @@ fn bad_schedules_are_rejected_naming_the_event_and_field() {
                 remove_fraction: Some(0.5),
                 ..ok.clone()
             },
-            "events[0]: give exactly one of add, remove_fraction, harvest_rate, stocking_rate",
+            "events[0]: give exactly one of add, add_ratio, remove_fraction, harvest_rate, stocking_rate",
         ),
         (
             EventSpec {
