@@ -2,6 +2,7 @@
 //! right, cautions at the foot.
 
 use tussock_core::analysis::round_sig;
+use wasm_bindgen::JsCast;
 use web_sys::HtmlInputElement;
 use yew::prelude::*;
 
@@ -10,11 +11,87 @@ use crate::components::chart_canvas::{ChartCanvas, ChartKind};
 use crate::components::example_menu::ExampleMenu;
 use crate::components::model_picker::ModelPicker;
 use crate::components::scenario_form::ScenarioForm;
+use crate::components::toolbar::{open_file, Toolbar};
 use crate::state::{Action, Run, Workbench};
+use crate::{browser, share};
 
 #[function_component(App)]
 pub fn app() -> Html {
     let bench = use_reducer(Workbench::starting);
+    // Once: a shared link wins over the autosaved scenario.
+    {
+        let d = bench.dispatcher();
+        use_effect_with((), move |_| {
+            let fragment = browser::fragment();
+            match share::decode_fragment(&fragment) {
+                Ok(scenario) => d.dispatch(Action::Open {
+                    scenario: Box::new(scenario),
+                    source: "the shared link".into(),
+                }),
+                Err(share::LinkError::NotAScenarioLink) => {
+                    if let Some(saved) = browser::load_saved() {
+                        d.dispatch(Action::Open {
+                            scenario: Box::new(saved),
+                            source: "your last session (saved in this browser)".into(),
+                        });
+                    }
+                }
+                Err(e) => d.dispatch(Action::Notify {
+                    message: format!("Could not open the link: {e}."),
+                }),
+            }
+        });
+    }
+    // Autosave every accepted change.
+    {
+        let d = bench.dispatcher();
+        use_effect_with(bench.scenario.clone(), move |scenario| {
+            if !browser::save(scenario) {
+                d.dispatch(Action::Notify { message: "This browser refuses to save: changes are kept only until the page closes. Save a scenario file to keep them.".into() });
+            }
+        });
+    }
+    // Ctrl+Z / Ctrl+Shift+Z (and Ctrl+Y) outside text fields.
+    {
+        let d = bench.dispatcher();
+        use_effect_with((), move |_| {
+            let listener = web_sys::window().map(|w| {
+                gloo_events::EventListener::new(&w, "keydown", move |event| {
+                    let Some(key) = event.dyn_ref::<web_sys::KeyboardEvent>() else {
+                        return;
+                    };
+                    let in_field = key
+                        .target()
+                        .and_then(|t| t.dyn_into::<web_sys::HtmlInputElement>().ok())
+                        .is_some_and(|i| i.type_() == "text");
+                    if in_field || !(key.ctrl_key() || key.meta_key()) {
+                        return;
+                    }
+                    match (key.key().to_lowercase().as_str(), key.shift_key()) {
+                        ("z", false) => d.dispatch(Action::Undo),
+                        ("z", true) | ("y", _) => d.dispatch(Action::Redo),
+                        _ => return,
+                    }
+                    key.prevent_default();
+                })
+            });
+            move || drop(listener)
+        });
+    }
+    let on_drop = {
+        let d = bench.dispatcher();
+        Callback::from(move |e: DragEvent| {
+            e.prevent_default();
+            if let Some(file) = e
+                .data_transfer()
+                .and_then(|t| t.files())
+                .and_then(|f| f.get(0))
+            {
+                open_file(d.clone(), file);
+            }
+        })
+    };
+    let on_drag_over = Callback::from(|e: DragEvent| e.prevent_default());
     let run = bench.run.clone();
     let model = run.problem.model;
     let two_species = model.n_species() == 2;
@@ -48,8 +125,12 @@ pub fn app() -> Html {
             <h1>{ "Tussock" }</h1>
             <p class="tagline">{ "What will two interacting populations do? Set the numbers, read the curves." }</p>
         </header>
+        <Toolbar bench={bench.clone()} />
+        if let Some(message) = bench.notice.clone() {
+            <p class="notice" id="notice" role="status">{ message }</p>
+        }
         <ExampleMenu bench={bench.clone()} />
-        <div class="workbench">
+        <div class="workbench" ondrop={on_drop} ondragover={on_drag_over}>
             <aside class="inputs">
                 <ModelPicker bench={bench.clone()} />
                 <h2>{ model.title }</h2>

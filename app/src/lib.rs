@@ -7,10 +7,12 @@
 //! to SVG.
 
 pub mod app;
+pub mod browser;
 pub mod charts;
 pub mod components;
 pub mod examples;
 pub mod panic;
+pub mod share;
 pub mod state;
 
 /// Start the app in the page's `<main id="app">` element.

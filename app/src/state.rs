@@ -59,7 +59,23 @@ pub enum Action {
     SetLogScale {
         on: bool,
     },
+    /// Go back to the scenario before the last accepted change.
+    Undo,
+    Redo,
+    /// Open a whole scenario (from a file, a link or saved state); `source`
+    /// says where from, for the notice.
+    Open {
+        scenario: Box<Scenario>,
+        source: String,
+    },
+    /// Show a message (e.g. a file that could not be read).
+    Notify {
+        message: String,
+    },
 }
+
+/// Most undo steps kept.
+pub const MAX_HISTORY: usize = 200;
 
 /// A field of the scenario form, used as the key of texts and messages.
 #[derive(Clone, Debug, PartialEq, Eq, PartialOrd, Ord)]
@@ -169,6 +185,15 @@ pub struct Workbench {
     pub example: Option<usize>,
     /// Number of simulations done, for tests and diagnostics.
     pub n_solves: u64,
+    /// Scenarios before the current one, oldest first, for undo.
+    pub history: Vec<Scenario>,
+    /// Scenarios undone, for redo.
+    pub future: Vec<Scenario>,
+    /// The field of the last accepted edit: typing into one field makes
+    /// one undo step, not one per key.
+    pub last_edit: Option<Field>,
+    /// A message for the user about the last open, save or link.
+    pub notice: Option<String>,
 }
 
 impl PartialEq for Workbench {
@@ -178,6 +203,9 @@ impl PartialEq for Workbench {
             && self.errors == other.errors
             && self.log_scale == other.log_scale
             && self.example == other.example
+            && self.notice == other.notice
+            && self.history.len() == other.history.len()
+            && self.future.len() == other.future.len()
     }
 }
 
@@ -202,6 +230,10 @@ impl Workbench {
             log_scale: false,
             example: None,
             n_solves: 1,
+            history: Vec::new(),
+            future: Vec::new(),
+            last_edit: None,
+            notice: None,
         })
     }
 
@@ -317,7 +349,74 @@ impl Workbench {
                 next.log_scale = on;
                 next
             }
+            Action::Undo => self.step_back(),
+            Action::Redo => self.step_forward(),
+            Action::Open { scenario, source } => {
+                let mut next = self.replace(*scenario, true);
+                if next.errors.is_empty() {
+                    next.notice = Some(format!("Opened {source}."));
+                } else {
+                    next.errors.clear();
+                    next.notice = Some(format!(
+                        "Could not open {source}: the scenario is not valid."
+                    ));
+                }
+                next
+            }
+            Action::Notify { message } => {
+                let mut next = self.clone();
+                next.notice = Some(message);
+                next
+            }
         }
+    }
+
+    fn step_back(&self) -> Workbench {
+        let Some(previous) = self.history.last().cloned() else {
+            return self.clone();
+        };
+        let mut next = self.restore(previous);
+        next.history.pop();
+        next.future.push(self.scenario.clone());
+        next
+    }
+
+    fn step_forward(&self) -> Workbench {
+        let Some(later) = self.future.last().cloned() else {
+            return self.clone();
+        };
+        let mut next = self.restore(later);
+        next.future.pop();
+        next.history.push(self.scenario.clone());
+        next
+    }
+
+    /// Show a scenario from the undo or redo list (valid when it was kept).
+    fn restore(&self, scenario: Scenario) -> Workbench {
+        let mut next = self.clone();
+        if let Ok(problem) = scenario.validate() {
+            next.texts.clear();
+            next.errors.clear();
+            next.scenario = scenario;
+            next.example = None;
+            next.last_edit = None;
+            next.recompute(problem);
+        }
+        next
+    }
+
+    /// Record the current scenario for undo before accepting a new one.
+    fn remember(&mut self, previous: &Scenario, field: Option<Field>) {
+        let same_field = field.is_some() && field == self.last_edit;
+        if !same_field {
+            self.history.push(previous.clone());
+            if self.history.len() > MAX_HISTORY {
+                self.history.remove(0);
+            }
+        }
+        self.future.clear();
+        self.last_edit = field;
+        self.notice = None;
     }
 
     fn recompute(&mut self, problem: Problem) {
@@ -336,6 +435,7 @@ impl Workbench {
                     next.errors.clear();
                     next.starts.clear();
                 }
+                next.remember(&self.scenario, None);
                 next.scenario = scenario;
                 next.example = None;
                 next.recompute(problem);
@@ -367,6 +467,7 @@ impl Workbench {
         match candidate.validate() {
             Ok(problem) => {
                 next.errors.remove(&field);
+                next.remember(&self.scenario, Some(field.clone()));
                 next.scenario = candidate;
                 next.example = None;
                 next.recompute(problem);
@@ -626,6 +727,55 @@ mod tests {
             y: 1.0,
         });
         assert!(Rc::ptr_eq(&same.run, &cleared.run));
+    }
+
+    #[test]
+    fn undo_and_redo_walk_through_accepted_changes() {
+        let b = bench();
+        let original = b.scenario.clone();
+        // Typing 0.3 then 0.35 into one field is one undo step.
+        let typed = b.apply(set("r", "0.3")).apply(set("r", "0.35"));
+        let switched = typed.apply(Action::SetModel {
+            key: "competition".into(),
+        });
+        assert_eq!(switched.history.len(), 2);
+        let back = switched.apply(Action::Undo);
+        assert_eq!(back.scenario.params["r"], 0.35);
+        let back2 = back.apply(Action::Undo);
+        assert_eq!(back2.scenario, original);
+        assert!(back2.history.is_empty());
+        assert_eq!(
+            back2.apply(Action::Undo).scenario,
+            original,
+            "nothing more to undo"
+        );
+        let forward = back2.apply(Action::Redo).apply(Action::Redo);
+        assert_eq!(forward.scenario.model, "competition");
+        // A new edit after undo clears the redo list.
+        let branched = back.apply(set("m", "0.2"));
+        assert!(branched.future.is_empty());
+        // Rejected input makes no undo step.
+        assert_eq!(b.apply(set("r", "abc")).history.len(), 0);
+    }
+
+    #[test]
+    fn opening_a_scenario_says_where_from_and_is_undoable() {
+        let b = bench();
+        let s = crate::examples::EXAMPLES[1].scenario().unwrap();
+        let opened = b.apply(Action::Open {
+            scenario: Box::new(s),
+            source: "plan.json".into(),
+        });
+        assert_eq!(opened.notice.as_deref(), Some("Opened plan.json."));
+        assert_eq!(opened.apply(Action::Undo).scenario, b.scenario);
+        let mut bad = crate::examples::EXAMPLES[1].scenario().unwrap();
+        bad.t_end = -1.0;
+        let refused = b.apply(Action::Open {
+            scenario: Box::new(bad),
+            source: "bad.json".into(),
+        });
+        assert!(refused.notice.unwrap().contains("not valid"));
+        assert!(Rc::ptr_eq(&refused.run, &b.run));
     }
 
     #[test]

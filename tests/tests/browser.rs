@@ -175,10 +175,15 @@ impl Browser {
             .goto(&self.base_url)
             .await
             .expect("open the app");
+        self.wait_for_app().await;
+    }
+
+    /// Wait until the page in the browser has rendered its charts.
+    async fn wait_for_app(&self) {
         self.client
             .wait()
             .at_most(Duration::from_secs(30))
-            .for_element(Locator::Css("#chart-phase"))
+            .for_element(Locator::Css("#chart-time"))
             .await
             .expect("the app renders its charts");
         self.settle().await;
@@ -257,6 +262,19 @@ impl Browser {
                     .map(|e| e["message"].as_str().unwrap_or_default().to_string())
                     .collect()
             })
+            .unwrap_or_default()
+    }
+
+    async fn value_of(&self, css: &str) -> String {
+        let field = self
+            .client
+            .find(Locator::Css(css))
+            .await
+            .expect("find the field");
+        field
+            .prop("value")
+            .await
+            .expect("read its value")
             .unwrap_or_default()
     }
 
@@ -489,6 +507,75 @@ async fn clicking_the_phase_plane_adds_trajectories_and_the_button_clears_them()
         b.canvas("chart-phase").await.1,
         "clearing did not restore the plane"
     );
+    b.assert_clean_console().await;
+    b.close().await;
+}
+
+#[tokio::test]
+#[ignore = "needs the app build and Chromium; run scripts/test"]
+async fn work_survives_a_reload_travels_in_a_link_and_undoes() {
+    let b = Browser::start().await;
+    b.open_app().await;
+    b.type_into("#param-K", "123").await;
+    // Autosave: a reload brings the edit back.
+    b.client.refresh().await.expect("reload");
+    b.wait_for_app().await;
+    assert_eq!(b.value_of("#param-K").await, "123");
+    assert!(b.text_of("#notice").await.contains("last session"));
+    // Undo returns to the example the page opened with.
+    b.client
+        .find(Locator::Css("#undo"))
+        .await
+        .unwrap()
+        .click()
+        .await
+        .unwrap();
+    b.settle().await;
+    assert_eq!(b.value_of("#param-K").await, "150");
+    // A share link restores the scenario in a fresh page.
+    b.type_into("#param-K", "321").await;
+    b.client
+        .find(Locator::Css("#share"))
+        .await
+        .unwrap()
+        .click()
+        .await
+        .unwrap();
+    b.settle().await;
+    let link = b
+        .client
+        .find(Locator::Css("#share-link"))
+        .await
+        .unwrap()
+        .prop("value")
+        .await
+        .unwrap()
+        .unwrap();
+    assert!(link.contains("#s="), "{link}");
+    b.client
+        .execute("localStorage.clear()", vec![])
+        .await
+        .unwrap();
+    b.client.goto("about:blank").await.unwrap();
+    b.client.goto(&link).await.unwrap();
+    b.wait_for_app().await;
+    let notice = b.text_of("#notice").await;
+    assert_eq!(b.value_of("#param-K").await, "321", "notice: {notice}");
+    assert!(notice.contains("shared link"), "{notice}");
+    // A damaged link says so and keeps the page working.
+    b.client.goto("about:blank").await.unwrap();
+    b.client
+        .goto(&format!("{}#s=garbage", b.base_url))
+        .await
+        .unwrap();
+    b.wait_for_app().await;
+    assert!(
+        b.text_of("#notice").await.contains("damaged"),
+        "{}",
+        b.text_of("#notice").await
+    );
+    assert!(b.canvas("chart-time").await.0 > 1000);
+    b.screenshot("damaged-link").await;
     b.assert_clean_console().await;
     b.close().await;
 }

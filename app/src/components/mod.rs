@@ -6,3 +6,4 @@ pub mod example_menu;
 pub mod model_picker;
 pub mod number_field;
 pub mod scenario_form;
+pub mod toolbar;
