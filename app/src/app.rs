@@ -11,6 +11,7 @@ use crate::components::chart_canvas::{ChartCanvas, ChartKind};
 use crate::components::example_menu::ExampleMenu;
 use crate::components::model_picker::ModelPicker;
 use crate::components::scenario_form::ScenarioForm;
+use crate::components::schedule_table::ScheduleTable;
 use crate::components::toolbar::{open_file, Toolbar};
 use crate::state::{Action, Run, Workbench};
 use crate::{browser, share};
@@ -162,6 +163,7 @@ pub fn app() -> Html {
                         <span class="swatch-extra">{ "━" }</span>{ " trajectories you added (click the plane)" }
                     </p>
                 }
+                <ScheduleTable bench={bench.clone()} />
             </section>
         </div>
         <footer class="cautions">

@@ -200,6 +200,72 @@ pub fn draw_time_series<DB: DrawingBackend>(
                 });
         }
     }
+    // Thresholds: economic threshold dashed, injury level dotted, each
+    // labelled; quasi-extinction levels thin and dashed in the species colour.
+    let th = &problem.thresholds;
+    let lines = [
+        (th.economic_threshold, "economic threshold", INK, 8.0),
+        (th.economic_injury_level, "economic injury level", INK, 2.0),
+    ];
+    for (level, label, colour, dash) in lines {
+        let Some(level) = level else { continue };
+        let y = transform(level);
+        let style = colour.stroke_width(px(scale, 1.5));
+        chart
+            .draw_series(DashedLineSeries::new(
+                [(0.0, y), (problem.t_end, y)],
+                px(scale, dash),
+                px(scale, 4.0),
+                style,
+            ))
+            .map_err(err)?;
+        chart
+            .draw_series(std::iter::once(Text::new(
+                label.to_string(),
+                (problem.t_end * 0.01, y),
+                ("sans-serif", 11.0 * scale).into_font().color(&colour),
+            )))
+            .map_err(err)?;
+    }
+    for (i, q) in th.quasi_extinction.iter().enumerate().take(traj.n_species) {
+        if let Some(q) = q {
+            let y = transform(*q);
+            let style = SPECIES_COLOURS[i % 2].mix(0.7).stroke_width(px(scale, 1.0));
+            chart
+                .draw_series(DashedLineSeries::new(
+                    [(0.0, y), (problem.t_end, y)],
+                    px(scale, 3.0),
+                    px(scale, 3.0),
+                    style,
+                ))
+                .map_err(err)?;
+        }
+    }
+    // Pulses: triangles on the time axis, up for additions, down for removals.
+    let map = plot_map(&chart, log_y);
+    let base_y = map.pixels_y.1 - px(scale, 6.0) as i32;
+    for pulse in &traj.pulses {
+        let x = pulse.time;
+        let w = f64::from(map.pixels_x.1 - map.pixels_x.0);
+        let px_x = map.pixels_x.0 + ((x - map.x.0) / (map.x.1 - map.x.0) * w) as i32;
+        let size = px(scale, 5.0) as i32;
+        let colour = SPECIES_COLOURS[pulse.species % 2];
+        let tri = if pulse.after >= pulse.before {
+            vec![
+                (px_x - size, base_y + size),
+                (px_x + size, base_y + size),
+                (px_x, base_y - size),
+            ]
+        } else {
+            vec![
+                (px_x - size, base_y - size),
+                (px_x + size, base_y - size),
+                (px_x, base_y + size),
+            ]
+        };
+        root.draw(&Polygon::new(tri, colour.filled()))
+            .map_err(err)?;
+    }
     chart
         .configure_series_labels()
         .label_font(font)
@@ -209,7 +275,7 @@ pub fn draw_time_series<DB: DrawingBackend>(
         .draw()
         .map_err(err)?;
     root.present().map_err(err)?;
-    Ok(plot_map(&chart, log_y))
+    Ok(map)
 }
 
 /// The phase plane: direction field, both nullclines (prey dashed, predator

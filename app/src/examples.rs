@@ -18,6 +18,13 @@ pub static EXAMPLES: &[Example] = &[
         json: include_str!("../../examples/greenhouse-mites.json"),
     },
     Example {
+        title: "Greenhouse: three predator releases and a spray",
+        description: "The same invented cucumber house, planted clean: spider mites arrive at 5 per leaf, predatory mites are released at 0.5 per leaf \
+            on days 7, 14 and 21, and a selective spray on day 40 removes half the pest. The economic threshold is 10 mites per leaf and the injury level 20. \
+            When is the pest above the threshold, and does it stay below to day 90? Values are illustrative, not measured.",
+        json: include_str!("../../examples/greenhouse-release.json"),
+    },
+    Example {
         title: "Reserve: will a reintroduced predator persist?",
         description: "An invented reserve where 12 martens are released among a vole population near its carrying capacity. \
             Will the predator establish, and at what prey density will the pair settle? Densities are whole-reserve counts, time in years. \

@@ -9,6 +9,9 @@ use std::collections::BTreeMap;
 use std::rc::Rc;
 
 use tussock_core::analysis::{self, Analysis, Nullcline};
+use tussock_core::events::EventSpec;
+use tussock_core::metrics::{metrics, Metrics};
+use tussock_core::scenario::ThresholdSpec;
 use tussock_core::{models, solve, solve_with, Problem, Scenario, State, Trajectory};
 
 use crate::examples::EXAMPLES;
@@ -59,6 +62,30 @@ pub enum Action {
     SetLogScale {
         on: bool,
     },
+    /// Add an event to the schedule.
+    AddEvent,
+    DeleteEvent {
+        index: usize,
+    },
+    SetEventKind {
+        index: usize,
+        key: String,
+    },
+    SetEventSpecies {
+        index: usize,
+        species: usize,
+    },
+    /// Text typed into a number of event `index`.
+    SetEvent {
+        index: usize,
+        which: EventField,
+        text: String,
+    },
+    /// Text typed into a threshold (empty for none).
+    SetThreshold {
+        which: ThresholdField,
+        text: String,
+    },
     /// Go back to the scenario before the last accepted change.
     Undo,
     Redo,
@@ -84,6 +111,114 @@ pub enum Field {
     Initial(usize),
     Horizon,
     Species(usize),
+    /// A number of event `index` of the schedule.
+    Event(usize, EventField),
+    Threshold(ThresholdField),
+}
+
+/// The numbers of a scheduled event.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
+pub enum EventField {
+    Time,
+    Amount,
+    Every,
+    Count,
+    Until,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
+pub enum ThresholdField {
+    Economic,
+    InjuryLevel,
+    QuasiExtinction(usize),
+}
+
+/// What an event does, as offered in the schedule table.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum EventKind {
+    Release,
+    ReleaseRatio,
+    Remove,
+    HarvestRate,
+    StockingRate,
+}
+
+impl EventKind {
+    pub const ALL: [EventKind; 5] = [
+        EventKind::Release,
+        EventKind::ReleaseRatio,
+        EventKind::Remove,
+        EventKind::HarvestRate,
+        EventKind::StockingRate,
+    ];
+
+    pub fn key(self) -> &'static str {
+        match self {
+            EventKind::Release => "add",
+            EventKind::ReleaseRatio => "add_ratio",
+            EventKind::Remove => "remove_fraction",
+            EventKind::HarvestRate => "harvest_rate",
+            EventKind::StockingRate => "stocking_rate",
+        }
+    }
+
+    pub fn label(self) -> &'static str {
+        match self {
+            EventKind::Release => "release (individuals)",
+            EventKind::ReleaseRatio => "release per individual of the other species",
+            EventKind::Remove => "remove a fraction (spray, cull, harvest)",
+            EventKind::HarvestRate => "harvest at a rate until…",
+            EventKind::StockingRate => "stock at a rate until…",
+        }
+    }
+
+    pub fn from_key(key: &str) -> Option<EventKind> {
+        EventKind::ALL.into_iter().find(|k| k.key() == key)
+    }
+
+    pub fn of(e: &EventSpec) -> EventKind {
+        if e.add_ratio.is_some() {
+            EventKind::ReleaseRatio
+        } else if e.remove_fraction.is_some() {
+            EventKind::Remove
+        } else if e.harvest_rate.is_some() {
+            EventKind::HarvestRate
+        } else if e.stocking_rate.is_some() {
+            EventKind::StockingRate
+        } else {
+            EventKind::Release
+        }
+    }
+
+    pub fn is_rate(self) -> bool {
+        matches!(self, EventKind::HarvestRate | EventKind::StockingRate)
+    }
+}
+
+/// The amount of an event, whatever its kind.
+pub fn event_amount(e: &EventSpec) -> Option<f64> {
+    e.add
+        .or(e.add_ratio)
+        .or(e.remove_fraction)
+        .or(e.harvest_rate)
+        .or(e.stocking_rate)
+}
+
+fn set_event_amount(e: &mut EventSpec, kind: EventKind, amount: Option<f64>) {
+    e.add = None;
+    e.add_ratio = None;
+    e.ratio_to = None;
+    e.remove_fraction = None;
+    e.harvest_rate = None;
+    e.stocking_rate = None;
+    let slot = match kind {
+        EventKind::Release => &mut e.add,
+        EventKind::ReleaseRatio => &mut e.add_ratio,
+        EventKind::Remove => &mut e.remove_fraction,
+        EventKind::HarvestRate => &mut e.harvest_rate,
+        EventKind::StockingRate => &mut e.stocking_rate,
+    };
+    *slot = amount;
 }
 
 /// Most extra trajectories kept on the phase plane.
@@ -100,6 +235,7 @@ pub struct Run {
     /// Phase-plane extent: species 0 across, species 1 up.
     pub window: (f64, f64),
     pub nullclines: Vec<Nullcline>,
+    pub metrics: Metrics,
 }
 
 /// Runs are immutable once made, so two are equal when they are the same run;
@@ -149,7 +285,9 @@ impl Run {
         let window = (pad(window.0), pad(window.1));
         let nullclines =
             analysis::nullclines(problem.model, &problem.params, window.0, window.1, 120);
+        let metrics = metrics(&problem, &trajectory);
         Run {
+            metrics,
             problem,
             trajectory,
             analysis,
@@ -267,6 +405,30 @@ impl Workbench {
                 .map(|v| format_number(*v))
                 .unwrap_or_default(),
             Field::Horizon => format_number(self.scenario.t_end),
+            Field::Event(i, which) => {
+                let Some(e) = self.scenario.events.get(*i) else {
+                    return String::new();
+                };
+                let value = match which {
+                    EventField::Time => Some(e.time),
+                    EventField::Amount => event_amount(e),
+                    EventField::Every => e.every,
+                    EventField::Count => e.count.map(f64::from),
+                    EventField::Until => e.until,
+                };
+                value.map(format_number).unwrap_or_default()
+            }
+            Field::Threshold(which) => {
+                let t = self.scenario.thresholds.clone().unwrap_or_default();
+                let value = match which {
+                    ThresholdField::Economic => t.economic_threshold,
+                    ThresholdField::InjuryLevel => t.economic_injury_level,
+                    ThresholdField::QuasiExtinction(i) => t
+                        .quasi_extinction
+                        .and_then(|q| q.get(*i).copied().flatten()),
+                };
+                value.map(format_number).unwrap_or_default()
+            }
             Field::Species(i) => self
                 .run
                 .problem
@@ -288,6 +450,10 @@ impl Workbench {
             Action::SetInitial { index, text } => self.edit_field(Field::Initial(index), text),
             Action::SetHorizon { text } => self.edit_field(Field::Horizon, text),
             Action::SetSpecies { index, text } => self.edit_field(Field::Species(index), text),
+            Action::SetEvent { index, which, text } => {
+                self.edit_field(Field::Event(index, which), text)
+            }
+            Action::SetThreshold { which, text } => self.edit_field(Field::Threshold(which), text),
             Action::SetTimeUnit { unit } => {
                 let mut s = self.scenario.clone();
                 s.time_unit = Some(unit);
@@ -349,6 +515,61 @@ impl Workbench {
                 next.log_scale = on;
                 next
             }
+            Action::AddEvent => {
+                let mut s = self.scenario.clone();
+                let n = self.run.problem.model.n_species();
+                let time = (self.scenario.t_end / 4.0).round().max(0.0);
+                s.events.push(EventSpec {
+                    time,
+                    species: n - 1,
+                    add: Some(10.0),
+                    ..EventSpec::default()
+                });
+                self.replace_keeping_texts(s)
+            }
+            Action::DeleteEvent { index } => {
+                let mut s = self.scenario.clone();
+                if index >= s.events.len() {
+                    return self.clone();
+                }
+                s.events.remove(index);
+                let mut next = self.replace_keeping_texts(s);
+                // Texts and messages of later rows would shift: drop them.
+                next.texts.retain(|f, _| !matches!(f, Field::Event(..)));
+                next.errors.retain(|f, _| !matches!(f, Field::Event(..)));
+                next
+            }
+            Action::SetEventKind { index, key } => {
+                let (Some(kind), Some(_)) =
+                    (EventKind::from_key(&key), self.scenario.events.get(index))
+                else {
+                    return self.clone();
+                };
+                let mut s = self.scenario.clone();
+                let e = &mut s.events[index];
+                let amount = match kind {
+                    EventKind::Remove => event_amount(e).map(|a| a.min(1.0)).or(Some(0.5)),
+                    EventKind::ReleaseRatio => Some(0.1),
+                    _ => event_amount(e).or(Some(10.0)),
+                };
+                set_event_amount(e, kind, amount);
+                if kind.is_rate() {
+                    e.every = None;
+                    e.count = None;
+                    e.until = Some(e.until.unwrap_or((e.time + 7.0).min(s.t_end)));
+                } else {
+                    e.until = None;
+                }
+                self.texts_cleared_for_event(index).replace_keeping_texts(s)
+            }
+            Action::SetEventSpecies { index, species } => {
+                let mut s = self.scenario.clone();
+                match s.events.get_mut(index) {
+                    Some(e) if species < self.run.problem.model.n_species() => e.species = species,
+                    _ => return self.clone(),
+                }
+                self.replace_keeping_texts(s)
+            }
             Action::Undo => self.step_back(),
             Action::Redo => self.step_forward(),
             Action::Open { scenario, source } => {
@@ -369,6 +590,33 @@ impl Workbench {
                 next
             }
         }
+    }
+
+    fn texts_cleared_for_event(&self, index: usize) -> Workbench {
+        let mut next = self.clone();
+        next.texts
+            .retain(|f, _| !matches!(f, Field::Event(i, _) if *i == index));
+        next.errors
+            .retain(|f, _| !matches!(f, Field::Event(i, _) if *i == index));
+        next
+    }
+
+    /// Accept a structural change (a row added, removed or retyped); on
+    /// failure say why in the notice and keep the current scenario.
+    fn replace_keeping_texts(&self, scenario: Scenario) -> Workbench {
+        let mut next = self.clone();
+        match scenario.validate() {
+            Ok(problem) => {
+                next.remember(&self.scenario, None);
+                next.scenario = scenario;
+                next.example = None;
+                next.recompute(problem);
+            }
+            Err(e) => {
+                next.notice = Some(format!("Not changed: {e}"));
+            }
+        }
+        next
     }
 
     fn step_back(&self) -> Workbench {
@@ -473,7 +721,13 @@ impl Workbench {
                 next.recompute(problem);
             }
             Err(e) => {
-                next.errors.insert(field, strip_path(&e.to_string()));
+                let message = e.to_string();
+                let text = if path_belongs_to(&message, &field) {
+                    strip_path(&message)
+                } else {
+                    message
+                };
+                next.errors.insert(field, text);
             }
         }
         next
@@ -506,6 +760,60 @@ fn edited(
         return Ok(s);
     }
     let trimmed = text.trim();
+    let optional_number = || -> Result<Option<f64>, String> {
+        if trimmed.is_empty() {
+            Ok(None)
+        } else {
+            parse_number(trimmed).map(Some)
+        }
+    };
+    if let Field::Threshold(which) = field {
+        let value = optional_number()?;
+        let mut t = s.thresholds.clone().unwrap_or_default();
+        match which {
+            ThresholdField::Economic => t.economic_threshold = value,
+            ThresholdField::InjuryLevel => t.economic_injury_level = value,
+            ThresholdField::QuasiExtinction(i) => {
+                let n = problem.model.n_species();
+                let mut q = t.quasi_extinction.clone().unwrap_or_else(|| vec![None; n]);
+                q.resize(n, None);
+                if let Some(slot) = q.get_mut(*i) {
+                    *slot = value;
+                }
+                t.quasi_extinction = q.iter().any(Option::is_some).then_some(q);
+            }
+        }
+        let empty = ThresholdSpec {
+            pest: t.pest,
+            ..ThresholdSpec::default()
+        };
+        s.thresholds = (t != empty || t.pest.is_some()).then_some(t);
+        return Ok(s);
+    }
+    if let Field::Event(i, which) = field {
+        let Some(e) = s.events.get_mut(*i) else {
+            return Err("no such event".to_string());
+        };
+        match which {
+            EventField::Time => e.time = optional_number()?.ok_or("enter a time")?,
+            EventField::Amount => {
+                let kind = EventKind::of(e);
+                set_event_amount(e, kind, Some(optional_number()?.ok_or("enter an amount")?));
+            }
+            EventField::Every => e.every = optional_number()?,
+            EventField::Count => {
+                e.count = match optional_number()? {
+                    None => None,
+                    Some(c) if c >= 1.0 && c.fract() == 0.0 && c <= 10_000.0 => Some(c as u32),
+                    Some(c) => {
+                        return Err(format!("must be a whole number from 1 to 10000, got {c}"))
+                    }
+                }
+            }
+            EventField::Until => e.until = optional_number()?,
+        }
+        return Ok(s);
+    }
     if trimmed.is_empty() {
         if let Field::Param(symbol) = field {
             let optional = problem
@@ -534,7 +842,7 @@ fn edited(
             // Keep about the same output resolution.
             s.output_step = None;
         }
-        Field::Species(_) => {}
+        Field::Species(_) | Field::Event(..) | Field::Threshold(_) => {}
     }
     Ok(s)
 }
@@ -546,6 +854,19 @@ pub fn parse_number(text: &str) -> Result<f64, String> {
         Ok(v) if v.is_finite() => Ok(v),
         Ok(_) => Err("enter a finite number".to_string()),
         Err(_) => Err(format!("\"{}\" is not a number", text.trim())),
+    }
+}
+
+/// Whether a core message (`path: reason`) is about this field.
+fn path_belongs_to(message: &str, field: &Field) -> bool {
+    let path = message.split_once(": ").map_or("", |(p, _)| p);
+    match field {
+        Field::Param(symbol) => path == format!("params.{symbol}"),
+        Field::Initial(i) => path == format!("initial[{i}]"),
+        Field::Horizon => path == "t_end" || path == "output_step",
+        Field::Species(i) => path == format!("species[{i}]") || path == "species",
+        Field::Event(i, _) => path.starts_with(&format!("events[{i}]")),
+        Field::Threshold(_) => path.starts_with("thresholds"),
     }
 }
 
@@ -778,10 +1099,87 @@ mod tests {
         assert!(Rc::ptr_eq(&refused.run, &b.run));
     }
 
+    fn event_text(index: usize, which: EventField, text: &str) -> Action {
+        Action::SetEvent {
+            index,
+            which,
+            text: text.to_string(),
+        }
+    }
+
+    #[test]
+    fn the_schedule_is_edited_and_checked_row_by_row() {
+        let b = bench().apply(Action::AddEvent);
+        assert_eq!(b.scenario.events.len(), 1);
+        assert_eq!(b.run.trajectory.pulses.len(), 1);
+        let repeated = b
+            .apply(event_text(0, EventField::Every, "7"))
+            .apply(event_text(0, EventField::Count, "3"));
+        assert_eq!(repeated.run.trajectory.pulses.len(), 3);
+        let late = repeated.apply(event_text(0, EventField::Time, "500"));
+        assert_eq!(
+            late.error(&Field::Event(0, EventField::Time)),
+            Some("500 is past the horizon (120)")
+        );
+        assert_eq!(
+            late.run.trajectory.pulses.len(),
+            3,
+            "the last good run stays"
+        );
+        let spray = repeated.apply(Action::SetEventKind {
+            index: 0,
+            key: "remove_fraction".into(),
+        });
+        let too_much = spray.apply(event_text(0, EventField::Amount, "1.5"));
+        assert_eq!(
+            too_much.error(&Field::Event(0, EventField::Amount)),
+            Some("must be between 0 and 1, got 1.5")
+        );
+        let rate = spray.apply(Action::SetEventKind {
+            index: 0,
+            key: "harvest_rate".into(),
+        });
+        assert!(rate.scenario.events[0].until.is_some() && rate.scenario.events[0].every.is_none());
+        let gone = rate.apply(Action::DeleteEvent { index: 0 });
+        assert!(gone.scenario.events.is_empty());
+        assert_eq!(gone.apply(Action::Undo).scenario.events.len(), 1);
+        // A shorter horizon that strands an event says so on the horizon field.
+        let stranded = repeated.apply(Action::SetHorizon { text: "20".into() });
+        assert!(stranded
+            .error(&Field::Horizon)
+            .unwrap()
+            .starts_with("events[0].time"));
+    }
+
+    #[test]
+    fn thresholds_are_set_cleared_and_checked() {
+        let b = bench();
+        let set_t = |b: &Workbench, which, text: &str| {
+            b.apply(Action::SetThreshold {
+                which,
+                text: text.to_string(),
+            })
+        };
+        let with = set_t(&b, ThresholdField::Economic, "10");
+        assert_eq!(with.run.problem.thresholds.economic_threshold, Some(10.0));
+        assert!(!with.run.trajectory.crossings.is_empty());
+        let bad = set_t(&with, ThresholdField::InjuryLevel, "5");
+        assert!(bad
+            .error(&Field::Threshold(ThresholdField::InjuryLevel))
+            .is_some());
+        let cleared = set_t(&with, ThresholdField::Economic, "");
+        assert_eq!(cleared.scenario.thresholds, None);
+        let quasi = set_t(&b, ThresholdField::QuasiExtinction(1), "0.5");
+        assert_eq!(
+            quasi.run.problem.thresholds.quasi_extinction,
+            [None, Some(0.5)]
+        );
+    }
+
     #[test]
     fn examples_load_and_are_marked() {
-        let b = bench().apply(Action::LoadExample { index: 2 });
-        assert_eq!(b.example, Some(2));
+        let b = bench().apply(Action::LoadExample { index: 3 });
+        assert_eq!(b.example, Some(3));
         assert_eq!(b.run.problem.model.key, "competition");
         let outcome = b
             .run

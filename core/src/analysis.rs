@@ -596,7 +596,18 @@ pub fn search_scale(problem: &Problem) -> [f64; 2] {
 /// Equilibria, the model's verdict and the long-run behaviour of a problem.
 pub fn analyze(problem: &Problem) -> Analysis {
     let equilibria = equilibria(problem.model, &problem.params, search_scale(problem));
-    let long_run = long_run(problem, &equilibria);
+    // With interventions, the long run follows on from the state they leave
+    // at the horizon (a release of an absent predator, say).
+    let long_run = if problem.schedule.is_empty() {
+        long_run(problem, &equilibria)
+    } else {
+        let after = crate::solve::solve(problem);
+        let mut continued = problem.clone();
+        if let Some(last) = after.states.last() {
+            continued.initial = *last;
+        }
+        long_run(&continued, &equilibria)
+    };
     let outcome = if problem.params.harvest.iter().all(|&h| h == 0.0) {
         (problem.model.outcome)(&problem.params).map(OutcomeReport::from)
     } else {

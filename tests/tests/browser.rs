@@ -401,7 +401,8 @@ async fn every_demo_and_every_model_draws_without_errors() {
     for (i, expected) in [
         (0, "Hopf threshold"),
         (1, "Hopf threshold"),
-        (2, "excludes"),
+        (2, "Hopf threshold"),
+        (3, "excludes"),
     ] {
         b.select("#example", &i.to_string()).await;
         let verdict = b.text_of("#verdict").await;
@@ -409,6 +410,13 @@ async fn every_demo_and_every_model_draws_without_errors() {
         for id in CHARTS {
             assert!(b.canvas(id).await.0 > 1000, "demo {i}: {id} is blank");
         }
+        b.client
+            .execute(
+                "document.getElementById('chart-time').scrollIntoView()",
+                vec![],
+            )
+            .await
+            .expect("scroll to the charts");
         b.screenshot(&format!("demo-{i}")).await;
     }
     for key in [
@@ -576,6 +584,44 @@ async fn work_survives_a_reload_travels_in_a_link_and_undoes() {
     );
     assert!(b.canvas("chart-time").await.0 > 1000);
     b.screenshot("damaged-link").await;
+    b.assert_clean_console().await;
+    b.close().await;
+}
+
+#[tokio::test]
+#[ignore = "needs the app build and Chromium; run scripts/test"]
+async fn interventions_are_scheduled_marked_and_checked() {
+    let b = Browser::start().await;
+    b.open_app().await;
+    let before = b.canvas("chart-time").await;
+    b.client
+        .find(Locator::Css("#add-event"))
+        .await
+        .unwrap()
+        .click()
+        .await
+        .unwrap();
+    b.settle().await;
+    assert_ne!(
+        before.1,
+        b.canvas("chart-time").await.1,
+        "a release did not change the chart"
+    );
+    b.type_into("#event-0-time", "999").await;
+    let alert = b.text_of(".row-message").await;
+    assert!(alert.contains("past the horizon"), "{alert}");
+    b.type_into("#event-0-time", "20").await;
+    b.type_into("#threshold-et", "10").await;
+    let metrics = b.text_of(".analysis").await;
+    assert!(metrics.contains("economic threshold (10)"), "{metrics}");
+    b.client
+        .execute(
+            "document.querySelector('.schedule').scrollIntoView()",
+            vec![],
+        )
+        .await
+        .unwrap();
+    b.screenshot("schedule").await;
     b.assert_clean_console().await;
     b.close().await;
 }

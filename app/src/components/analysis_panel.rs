@@ -16,6 +16,16 @@ pub struct AnalysisPanelProps {
 /// The long-run behaviour as one sentence.
 pub fn long_run_sentence(run: &Run) -> String {
     let p = &run.problem;
+    let core = long_run_core(run);
+    if p.schedule.is_empty() {
+        core
+    } else {
+        format!("{core} (Continued from the state the interventions leave at the horizon.)")
+    }
+}
+
+fn long_run_core(run: &Run) -> String {
+    let p = &run.problem;
     let lr = &run.analysis.long_run;
     let unit = &p.time_unit;
     let names = &p.species;
@@ -91,6 +101,54 @@ fn eigen_text(eigs: &[(f64, f64)]) -> String {
         .join(", ")
 }
 
+/// The run against its thresholds, in words; empty without thresholds.
+pub fn metrics_sentences(run: &Run) -> Vec<String> {
+    let p = &run.problem;
+    let unit = &p.time_unit;
+    let m = &run.metrics;
+    let mut out = Vec::new();
+    if let Some(pest) = &m.pest {
+        let name = &p.species[pest.species];
+        let et = round_sig(pest.economic_threshold, 4);
+        out.push(match (pest.first_above_threshold, pest.below_threshold_from) {
+            (None, _) => format!("{name} stays below its economic threshold ({et}) throughout."),
+            (Some(up), Some(down)) => format!(
+                "{name} first reaches its economic threshold ({et}) at t = {} {unit}, and is below it from t = {} {unit} to the horizon ({} {unit} above it in all).",
+                round_sig(up, 4),
+                round_sig(down, 4),
+                round_sig(pest.time_above_threshold, 3)
+            ),
+            (Some(up), None) => format!(
+                "{name} first reaches its economic threshold ({et}) at t = {} {unit} and is above it at the horizon.",
+                round_sig(up, 4)
+            ),
+        });
+        if let Some(t) = pest.first_above_injury_level {
+            out.push(format!(
+                "It reaches the economic injury level at t = {} {unit}.",
+                round_sig(t, 4)
+            ));
+        }
+        let peak = m.peak[pest.species];
+        out.push(format!(
+            "Peak {name}: {} at t = {} {unit}.",
+            round_sig(peak.value, 4),
+            round_sig(peak.time, 4)
+        ));
+    }
+    for (i, below) in m.time_below_quasi_extinction.iter().enumerate() {
+        if let Some(b) = below {
+            out.push(format!(
+                "{} spends {} {unit} below its quasi-extinction level (lowest {}).",
+                p.species[i],
+                round_sig(*b, 3),
+                round_sig(m.minimum[i].value, 3)
+            ));
+        }
+    }
+    out
+}
+
 #[function_component(AnalysisPanel)]
 pub fn analysis_panel(props: &AnalysisPanelProps) -> Html {
     let run = &props.run;
@@ -116,6 +174,7 @@ pub fn analysis_panel(props: &AnalysisPanelProps) -> Html {
             <h2>{ "What the model says" }</h2>
             { for verdict }
             <p id="long-run">{ long_run_sentence(run) }</p>
+            { for metrics_sentences(run).into_iter().map(|m| html! { <p class="metric">{ m }</p> }) }
             <details open=true>
                 <summary>{ "Equilibria and their stability" }</summary>
                 <ul class="equilibria" id="equilibria">{ for equilibria }</ul>
