@@ -250,7 +250,7 @@ impl Run {
     /// Solve, analyse and trace everything the charts show.
     pub fn compute(problem: Problem, starts: &[State]) -> Run {
         let trajectory = solve(&problem);
-        let analysis = analysis::analyze(&problem);
+        let analysis = analysis::analyze_after(&problem, Some(&trajectory));
         let extra: Vec<Trajectory> = starts
             .iter()
             .map(|s| {
@@ -480,7 +480,7 @@ impl Workbench {
             Action::LoadExample { index } => match EXAMPLES.get(index).and_then(|e| e.scenario()) {
                 Some(s) => {
                     let mut next = self.replace(s, true);
-                    if !next.errors.contains_key(&Field::Horizon) {
+                    if !Rc::ptr_eq(&next.run, &self.run) {
                         next.example = Some(index);
                     }
                     next
@@ -525,7 +525,7 @@ impl Workbench {
                     add: Some(10.0),
                     ..EventSpec::default()
                 });
-                self.replace_keeping_texts(s)
+                self.replace(s, false)
             }
             Action::DeleteEvent { index } => {
                 let mut s = self.scenario.clone();
@@ -533,7 +533,7 @@ impl Workbench {
                     return self.clone();
                 }
                 s.events.remove(index);
-                let mut next = self.replace_keeping_texts(s);
+                let mut next = self.replace(s, false);
                 // Texts and messages of later rows would shift: drop them.
                 next.texts.retain(|f, _| !matches!(f, Field::Event(..)));
                 next.errors.retain(|f, _| !matches!(f, Field::Event(..)));
@@ -560,7 +560,7 @@ impl Workbench {
                 } else {
                     e.until = None;
                 }
-                self.texts_cleared_for_event(index).replace_keeping_texts(s)
+                self.texts_cleared_for_event(index).replace(s, false)
             }
             Action::SetEventSpecies { index, species } => {
                 let mut s = self.scenario.clone();
@@ -568,20 +568,17 @@ impl Workbench {
                     Some(e) if species < self.run.problem.model.n_species() => e.species = species,
                     _ => return self.clone(),
                 }
-                self.replace_keeping_texts(s)
+                self.replace(s, false)
             }
             Action::Undo => self.step_back(),
             Action::Redo => self.step_forward(),
             Action::Open { scenario, source } => {
                 let mut next = self.replace(*scenario, true);
-                if next.errors.is_empty() {
-                    next.notice = Some(format!("Opened {source}."));
+                next.notice = Some(if Rc::ptr_eq(&next.run, &self.run) {
+                    format!("Could not open {source}: the scenario is not valid.")
                 } else {
-                    next.errors.clear();
-                    next.notice = Some(format!(
-                        "Could not open {source}: the scenario is not valid."
-                    ));
-                }
+                    format!("Opened {source}.")
+                });
                 next
             }
             Action::Notify { message } => {
@@ -598,24 +595,6 @@ impl Workbench {
             .retain(|f, _| !matches!(f, Field::Event(i, _) if *i == index));
         next.errors
             .retain(|f, _| !matches!(f, Field::Event(i, _) if *i == index));
-        next
-    }
-
-    /// Accept a structural change (a row added, removed or retyped); on
-    /// failure say why in the notice and keep the current scenario.
-    fn replace_keeping_texts(&self, scenario: Scenario) -> Workbench {
-        let mut next = self.clone();
-        match scenario.validate() {
-            Ok(problem) => {
-                next.remember(&self.scenario, None);
-                next.scenario = scenario;
-                next.example = None;
-                next.recompute(problem);
-            }
-            Err(e) => {
-                next.notice = Some(format!("Not changed: {e}"));
-            }
-        }
         next
     }
 
@@ -689,9 +668,8 @@ impl Workbench {
                 next.recompute(problem);
             }
             Err(e) => {
-                // Only reachable through a bad built-in file; say so on the
-                // horizon field rather than lose the current run.
-                next.errors.insert(Field::Horizon, e.to_string());
+                // Keep the current run and say why nothing changed.
+                next.notice = Some(format!("Not changed: {e}"));
             }
         }
         next

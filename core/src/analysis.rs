@@ -595,18 +595,28 @@ pub fn search_scale(problem: &Problem) -> [f64; 2] {
 
 /// Equilibria, the model's verdict and the long-run behaviour of a problem.
 pub fn analyze(problem: &Problem) -> Analysis {
-    let equilibria = equilibria(problem.model, &problem.params, search_scale(problem));
-    // With interventions, the long run follows on from the state they leave
-    // at the horizon (a release of an absent predator, say).
-    let long_run = if problem.schedule.is_empty() {
-        long_run(problem, &equilibria)
+    if problem.schedule.is_empty() {
+        analyze_after(problem, None)
     } else {
-        let after = crate::solve::solve(problem);
-        let mut continued = problem.clone();
-        if let Some(last) = after.states.last() {
-            continued.initial = *last;
+        analyze_after(problem, Some(&crate::solve::solve(problem)))
+    }
+}
+
+/// [`analyze`] for a caller that has already solved the problem: with
+/// interventions, the long run follows on from the state they leave at the
+/// horizon (a release of an absent predator, say).
+pub fn analyze_after(problem: &Problem, solved: Option<&crate::solve::Trajectory>) -> Analysis {
+    let equilibria = equilibria(problem.model, &problem.params, search_scale(problem));
+    let last = solved
+        .filter(|_| !problem.schedule.is_empty())
+        .and_then(|t| t.states.last());
+    let long_run = match last {
+        None => long_run(problem, &equilibria),
+        Some(state) => {
+            let mut continued = problem.clone();
+            continued.initial = *state;
+            long_run(&continued, &equilibria)
         }
-        long_run(&continued, &equilibria)
     };
     let outcome = if problem.params.harvest.iter().all(|&h| h == 0.0) {
         (problem.model.outcome)(&problem.params).map(OutcomeReport::from)
