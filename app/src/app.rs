@@ -7,12 +7,13 @@ use web_sys::HtmlInputElement;
 use yew::prelude::*;
 
 use crate::components::analysis_panel::{long_run_sentence, AnalysisPanel};
-use crate::components::chart_canvas::{ChartCanvas, ChartKind};
+use crate::components::chart_canvas::ChartCanvas;
 use crate::components::example_menu::ExampleMenu;
 use crate::components::model_picker::ModelPicker;
 use crate::components::scenario_form::ScenarioForm;
 use crate::components::schedule_table::ScheduleTable;
 use crate::components::toolbar::{open_file, Toolbar};
+use crate::figures::Figure;
 use crate::state::{Action, Run, Workbench};
 use crate::{browser, share};
 
@@ -115,6 +116,10 @@ pub fn app() -> Html {
         let d = bench.dispatcher();
         Callback::from(move |(x, y): (f64, f64)| d.dispatch(Action::AddStart { x, y }))
     };
+    let on_notify = {
+        let d = bench.dispatcher();
+        Callback::from(move |message: String| d.dispatch(Action::Notify { message }))
+    };
     let on_clear = {
         let d = bench.dispatcher();
         Callback::from(move |_: MouseEvent| d.dispatch(Action::ClearStarts))
@@ -148,7 +153,7 @@ pub fn app() -> Html {
                     <h2>{ "Densities over time" }</h2>
                     <label class="toggle"><input id="log-scale" type="checkbox" checked={bench.log_scale} onchange={on_log} />{ " log scale" }</label>
                 </div>
-                <ChartCanvas id="chart-time" kind={ChartKind::TimeSeries} run={run.clone()} log_y={bench.log_scale} summary={time_summary(&run)} />
+                <ChartCanvas id="chart-time" figure={Figure::TimeSeries { run: run.clone(), log_y: bench.log_scale }} summary={time_summary(&run)} on_error={on_notify.clone()} />
                 if two_species {
                     <div class="chart-head">
                         <h2>{ "Phase plane" }</h2>
@@ -156,7 +161,7 @@ pub fn app() -> Html {
                             { format!("Clear added trajectories ({})", bench.starts.len()) }
                         </button>
                     </div>
-                    <ChartCanvas id="chart-phase" kind={ChartKind::PhasePlane} run={run.clone()} summary={phase_summary(&run)} on_click={on_plane_click} />
+                    <ChartCanvas id="chart-phase" figure={Figure::PhasePlane { run: run.clone() }} summary={phase_summary(&run)} on_click={on_plane_click} on_error={on_notify.clone()} />
                     <p class="key" aria-hidden="true">
                         { format!("Key: ● stable equilibrium  ○ unstable  ⊗ saddle  — — {} nullcline  · · · {} nullcline  ",
                             run.problem.species[0], run.problem.species[1]) }

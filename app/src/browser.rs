@@ -72,9 +72,6 @@ pub fn copy_to_clipboard(text: &str) {
 
 /// Offer `text` as a file download named `name`.
 pub fn download(name: &str, mime: &str, text: &str) -> Result<(), String> {
-    let document = web_sys::window()
-        .and_then(|w| w.document())
-        .ok_or("no document")?;
     let parts = js_sys_array(text);
     let options = web_sys::BlobPropertyBag::new();
     options.set_type(mime);
@@ -82,15 +79,24 @@ pub fn download(name: &str, mime: &str, text: &str) -> Result<(), String> {
         .map_err(|_| "cannot make the file")?;
     let url = web_sys::Url::create_object_url_with_blob(&blob)
         .map_err(|_| "cannot make a download link")?;
+    let result = download_url(name, &url);
+    let _ = web_sys::Url::revoke_object_url(&url);
+    result
+}
+
+/// Offer the resource at `url` (a blob: or data: URL) as a download.
+pub fn download_url(name: &str, url: &str) -> Result<(), String> {
+    let document = web_sys::window()
+        .and_then(|w| w.document())
+        .ok_or("no document")?;
     let anchor: web_sys::HtmlAnchorElement = document
         .create_element("a")
         .map_err(|_| "cannot make a download link")?
         .dyn_into()
         .map_err(|_| "cannot make a download link")?;
-    anchor.set_href(&url);
+    anchor.set_href(url);
     anchor.set_download(name);
     anchor.click();
-    let _ = web_sys::Url::revoke_object_url(&url);
     Ok(())
 }
 

@@ -2,15 +2,15 @@
 //!
 //! State lives in one place ([`state::Workbench`], a Yew reducer) and is pure
 //! Rust, unit-tested natively. Components under `components/` receive data
-//! down and send actions up. Charts ([`charts`]) are drawn by functions generic
-//! over plotters' `DrawingBackend`, so the same code can draw to a canvas or
-//! to SVG.
+//! down and send actions up. Figures ([`figures`]) are drawn by the functions
+//! of `tussock-charts`, generic over plotters' `DrawingBackend`, so the same
+//! code draws to the page's canvas and to SVG and PNG downloads.
 
 pub mod app;
 pub mod browser;
-pub mod charts;
 pub mod components;
 pub mod examples;
+pub mod figures;
 pub mod panic;
 pub mod share;
 pub mod state;

@@ -15,6 +15,7 @@ pub mod metrics;
 pub mod model;
 pub mod models;
 pub mod plan;
+pub mod run;
 pub mod scenario;
 pub mod solve;
 

@@ -1,38 +1,32 @@
-//! A canvas that draws one chart of the current run, sized in device pixels
-//! so it is crisp on high-DPI screens, with a readout of the point under the
-//! pointer and, on the phase plane, clicks that start a new trajectory.
+//! A canvas that draws one figure, sized in device pixels so it is crisp on
+//! high-DPI screens, with a readout of the point under the pointer, clicks
+//! mapped back to data, and downloads of the figure as SVG and as PNG.
 
 use std::cell::Cell;
 use std::rc::Rc;
 
 use plotters::prelude::*;
 use plotters_canvas::CanvasBackend;
-use tussock_core::analysis::round_sig;
-use wasm_bindgen::JsValue;
+use tussock_charts::PlotMap;
+use wasm_bindgen::{JsCast, JsValue};
 use web_sys::HtmlCanvasElement;
 use yew::prelude::*;
 
-use crate::charts::{self, PlotMap};
-use crate::state::Run;
-
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum ChartKind {
-    TimeSeries,
-    PhasePlane,
-}
+use crate::browser;
+use crate::figures::{Figure, EXPORT_SIZE};
 
 #[derive(Properties, PartialEq)]
 pub struct ChartCanvasProps {
-    pub kind: ChartKind,
-    pub run: Rc<Run>,
-    #[prop_or_default]
-    pub log_y: bool,
+    pub figure: Figure,
     /// Text alternative for screen readers.
     pub summary: AttrValue,
     pub id: AttrValue,
     /// Called with data coordinates when the plotting area is clicked.
     #[prop_or_default]
     pub on_click: Option<Callback<(f64, f64)>>,
+    /// Where download failures are reported.
+    #[prop_or_default]
+    pub on_error: Option<Callback<String>>,
 }
 
 fn device_pixel_ratio() -> f64 {
@@ -49,11 +43,10 @@ pub fn chart_canvas(props: &ChartCanvasProps) -> Html {
     let readout = use_state(String::new);
     {
         let canvas_ref = canvas_ref.clone();
-        let kind = props.kind;
         let map = map.clone();
-        use_effect_with((props.run.clone(), props.log_y), move |(run, log_y)| {
+        use_effect_with(props.figure.clone(), move |figure| {
             if let Some(canvas) = canvas_ref.cast::<HtmlCanvasElement>() {
-                match draw(&canvas, kind, run, *log_y) {
+                match draw(&canvas, figure) {
                     Ok(m) => map.set(Some(m)),
                     Err(e) => {
                         map.set(None);
@@ -79,12 +72,11 @@ pub fn chart_canvas(props: &ChartCanvasProps) -> Html {
     };
     let on_move = {
         let readout = readout.clone();
-        let run = props.run.clone();
-        let kind = props.kind;
+        let figure = props.figure.clone();
         let to_data = to_data.clone();
         Callback::from(move |e: MouseEvent| {
             let text = to_data(&e)
-                .map(|(x, y)| describe_point(&run, kind, x, y))
+                .map(|(x, y)| figure.describe_point(x, y))
                 .unwrap_or_default();
             readout.set(text);
         })
@@ -100,59 +92,49 @@ pub fn chart_canvas(props: &ChartCanvasProps) -> Html {
             }
         })
     });
-    let clickable = on_click.is_some();
+    let report = {
+        let on_error = props.on_error.clone();
+        move |result: Result<(), String>| {
+            if let (Err(e), Some(cb)) = (result, &on_error) {
+                cb.emit(format!("Could not export the figure: {e}."));
+            }
+        }
+    };
+    let on_svg = {
+        let figure = props.figure.clone();
+        let report = report.clone();
+        Callback::from(move |_: MouseEvent| {
+            report(figure.to_svg().and_then(|svg| {
+                browser::download(
+                    &format!("{}.svg", figure.file_stem()),
+                    "image/svg+xml",
+                    &svg,
+                )
+            }))
+        })
+    };
+    let on_png = {
+        let figure = props.figure.clone();
+        Callback::from(move |_: MouseEvent| report(export_png(&figure)))
+    };
+    let clickable = on_click.is_some() && props.figure.clickable();
     html! {
         <figure class={classes!("chart", clickable.then_some("clickable"))}>
             <canvas id={props.id.clone()} ref={canvas_ref} role="img" aria-label={props.summary.clone()}
                 onmousemove={on_move} onmouseleave={on_leave} onclick={on_click}></canvas>
-            <figcaption class="readout" aria-hidden="true">{ (*readout).clone() }</figcaption>
+            <figcaption>
+                <span class="readout" aria-hidden="true">{ (*readout).clone() }</span>
+                <span class="figure-downloads">
+                    <button type="button" class="small" onclick={on_svg} title="Download this figure as SVG (vector, for reports)">{ "SVG" }</button>
+                    <button type="button" class="small" onclick={on_png} title="Download this figure as PNG at twice screen resolution">{ "PNG" }</button>
+                </span>
+            </figcaption>
             <p class="visually-hidden">{ props.summary.clone() }</p>
         </figure>
     }
 }
 
-/// Readout under the pointer: on the time series the state at the nearest
-/// output time, on the phase plane the densities at the pointer.
-fn describe_point(run: &Run, kind: ChartKind, x: f64, y: f64) -> String {
-    let p = &run.problem;
-    match kind {
-        ChartKind::TimeSeries => {
-            let traj = &run.trajectory;
-            let Some(i) = traj
-                .times
-                .iter()
-                .enumerate()
-                .min_by(|a, b| (a.1 - x).abs().total_cmp(&(b.1 - x).abs()))
-                .map(|(i, _)| i)
-            else {
-                return String::new();
-            };
-            let values: Vec<String> = (0..traj.n_species)
-                .map(|k| format!("{} {}", p.species[k], round_sig(traj.states[i][k], 4)))
-                .collect();
-            format!(
-                "t = {} {}: {}",
-                round_sig(traj.times[i], 4),
-                p.time_unit,
-                values.join(", ")
-            )
-        }
-        ChartKind::PhasePlane => format!(
-            "{} {}, {} {} — click to start a trajectory here",
-            p.species[0],
-            round_sig(x, 4),
-            p.species[1],
-            round_sig(y, 4)
-        ),
-    }
-}
-
-fn draw(
-    canvas: &HtmlCanvasElement,
-    kind: ChartKind,
-    run: &Run,
-    log_y: bool,
-) -> Result<PlotMap, String> {
+fn draw(canvas: &HtmlCanvasElement, figure: &Figure) -> Result<PlotMap, String> {
     let scale = device_pixel_ratio();
     let css_w = f64::from(canvas.client_width().max(1));
     let css_h = f64::from(canvas.client_height().max(1));
@@ -170,8 +152,28 @@ fn draw(
     let backend = CanvasBackend::with_canvas_object(canvas.clone())
         .ok_or_else(|| "canvas has no 2D context".to_string())?;
     let root = backend.into_drawing_area();
-    match kind {
-        ChartKind::TimeSeries => charts::draw_time_series(&root, run, scale, log_y),
-        ChartKind::PhasePlane => charts::draw_phase_plane(&root, run, scale),
-    }
+    figure.draw(&root, scale)
+}
+
+/// Draw the figure at twice the export size on a canvas off the page and
+/// download it as PNG.
+fn export_png(figure: &Figure) -> Result<(), String> {
+    let document = web_sys::window()
+        .and_then(|w| w.document())
+        .ok_or("no document")?;
+    let canvas: HtmlCanvasElement = document
+        .create_element("canvas")
+        .map_err(|_| "cannot make a canvas")?
+        .dyn_into()
+        .map_err(|_| "cannot make a canvas")?;
+    let scale = 2.0;
+    canvas.set_width(EXPORT_SIZE.0 * 2);
+    canvas.set_height(EXPORT_SIZE.1 * 2);
+    let backend =
+        CanvasBackend::with_canvas_object(canvas.clone()).ok_or("canvas has no 2D context")?;
+    figure.draw(&backend.into_drawing_area(), scale)?;
+    let url = canvas
+        .to_data_url_with_type("image/png")
+        .map_err(|_| "the browser refused to encode the PNG")?;
+    browser::download_url(&format!("{}.png", figure.file_stem()), &url)
 }
