@@ -139,6 +139,10 @@ fn newton(model: &ModelSpec, p: &Params, start: State, n: usize) -> Option<State
     let mut x = start;
     for _ in 0..100 {
         let f = model.derivative(p, &x);
+        if (0..n).all(|i| f[i] == 0.0) {
+            // Exactly a root (possibly where the Jacobian is singular).
+            break;
+        }
         let j = (model.jacobian)(p, &x);
         let step = if n == 1 {
             if j[(0, 0)] == 0.0 {

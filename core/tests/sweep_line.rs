@@ -340,3 +340,29 @@ fn bad_requests_name_the_field() {
         assert!(err.to_string().starts_with(expected), "{err}");
     }
 }
+
+/// Regression: sweep values landing exactly on a bifurcation (round
+/// numbers do) made the eigenvalue zero or merged two equilibria into one,
+/// and the bifurcation went unreported or misnamed. Values from the
+/// formulas above: N* = 60 and K_H = 220 for the first set; rK/4 = 100.
+#[test]
+fn exact_grid_hits_do_not_hide_bifurcations() {
+    let set = SETS[0];
+    let sweep = check(&rm(set, 300.0), "K", 20.0, 600.0, 59, 50.0);
+    assert!(
+        sweep.points.iter().any(|p| p.value == 60.0)
+            && sweep.points.iter().any(|p| p.value == 220.0)
+    );
+    let t = kinds(&sweep, BifurcationKind::Transcritical);
+    let h = kinds(&sweep, BifurcationKind::Hopf);
+    assert_eq!((t.len(), h.len()), (1, 1), "{:?}", sweep.bifurcations);
+    assert!(
+        (t[0] - n_star(set)).abs() <= 1e-6 * 60.0 && (h[0] - k_hopf(set)).abs() <= 1e-6 * 220.0
+    );
+    let p = logistic(&[("b", 0.5), ("d", 0.1), ("K", 1000.0)], 0.0);
+    let sweep = check(&p, "harvest[0]", 0.0, 200.0, 201, 100.0);
+    let folds = kinds(&sweep, BifurcationKind::SaddleNode);
+    assert_eq!(folds.len(), 1, "{:?}", sweep.bifurcations);
+    assert!((folds[0] - 100.0).abs() <= 1e-6 * 100.0, "{}", folds[0]);
+    assert_eq!(sweep.bifurcations.len(), 1, "{:?}", sweep.bifurcations);
+}

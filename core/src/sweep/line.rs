@@ -212,45 +212,71 @@ impl LinePlan {
         }
     }
 
-    /// Bifurcations between adjacent computed points.
+    /// Bifurcations between computed points, sorted by value.
+    ///
+    /// A branch is compared between successive points where it is
+    /// hyperbolic, at most two indices apart, so a value landing exactly on
+    /// a bifurcation (where the eigenvalue is zero, or two equilibria
+    /// coincide) does not hide it.
     pub fn bifurcations(&self, points: &[LinePoint]) -> Vec<Bifurcation> {
-        let mut out = Vec::new();
-        for w in points.windows(2) {
-            let (a, b) = (&w[0], &w[1]);
-            if b.index != a.index + 1 || a.failure.is_some() || b.failure.is_some() {
-                continue;
-            }
-            self.between(a, b, &mut out);
-        }
-        out
-    }
-
-    fn between(&self, a: &LinePoint, b: &LinePoint, out: &mut Vec<Bifurcation>) {
         let n = self.problem.model.n_species();
-        let mut crossings: Vec<Bifurcation> = Vec::new();
-        for ea in &a.equilibria {
-            let Some(eb) = b.equilibria.iter().find(|e| e.branch == ea.branch) else {
-                continue;
-            };
-            let (qa, qb) = (&ea.equilibrium, &eb.equilibrium);
-            if !(qa.feasible || qb.feasible) {
-                continue;
+        let mut by_branch: std::collections::BTreeMap<usize, Vec<(usize, &Equilibrium)>> =
+            Default::default();
+        for (k, point) in points.iter().enumerate() {
+            for e in &point.equilibria {
+                by_branch
+                    .entry(e.branch)
+                    .or_default()
+                    .push((k, &e.equilibrium));
             }
-            let (det_a, tr_a) = det_trace(qa, n);
-            let (det_b, tr_b) = det_trace(qb, n);
-            let kind = if det_a * det_b < 0.0 {
-                BifurcationKind::Transcritical
-            } else if n == 2 && det_a > 0.0 && det_b > 0.0 && tr_a * tr_b < 0.0 {
-                BifurcationKind::Hopf
-            } else {
-                continue;
-            };
-            if let Some(found) = self.locate_on_branch(kind, (a, qa), (b, qb), ea.branch) {
-                crossings.push(found);
+        }
+        let mut crossings: Vec<Bifurcation> = Vec::new();
+        for (&branch, seen) in &by_branch {
+            let usable: Vec<&(usize, &Equilibrium)> =
+                seen.iter().filter(|(_, e)| !degenerate(e)).collect();
+            for w in usable.windows(2) {
+                let (&(ka, qa), &(kb, qb)) = (w[0], w[1]);
+                let (a, b) = (&points[ka], &points[kb]);
+                if b.index > a.index + 2
+                    || points[ka..=kb].iter().any(|p| p.failure.is_some())
+                    || !(qa.feasible || qb.feasible)
+                {
+                    continue;
+                }
+                let (det_a, tr_a) = det_trace(qa, n);
+                let (det_b, tr_b) = det_trace(qb, n);
+                let kind = if det_a * det_b < 0.0 {
+                    BifurcationKind::Transcritical
+                } else if n == 2 && det_a > 0.0 && det_b > 0.0 && tr_a * tr_b < 0.0 {
+                    BifurcationKind::Hopf
+                } else {
+                    continue;
+                };
+                if let Some(mut found) = self.locate_on_branch(kind, (a, qa), (b, qb), branch) {
+                    // A zero eigenvalue at the very end of a branch is the
+                    // fold where it meets another and both vanish (at a
+                    // grid value on the fold they were merged into one).
+                    let ends = |k: usize, step: isize, value: f64| {
+                        let beyond = k.checked_add_signed(step).and_then(|j| points.get(j));
+                        (found.value - value).abs() <= 1e-6 * value.abs().max(1e-300)
+                            && beyond.is_some_and(|p| {
+                                p.failure.is_none()
+                                    && p.index.abs_diff(points[k].index) == 1
+                                    && !p.equilibria.iter().any(|e| e.branch == branch)
+                            })
+                    };
+                    if kind == BifurcationKind::Transcritical
+                        && (ends(kb, 1, b.value) || ends(ka, -1, a.value))
+                    {
+                        found.kind = BifurcationKind::SaddleNode;
+                    }
+                    crossings.push(found);
+                }
             }
         }
         // Partners of transcritical points: another branch crossing at the
         // same value and state. Report each pair once.
+        let mut out = Vec::new();
         let mut taken = vec![false; crossings.len()];
         for i in 0..crossings.len() {
             if taken[i] {
@@ -270,7 +296,21 @@ impl LinePlan {
             }
             out.push(crossings[i].clone());
         }
-        // Saddle-nodes: pairs of branches ending after `a`, or beginning at `b`.
+        for w in points.windows(2) {
+            let (a, b) = (&w[0], &w[1]);
+            if b.index == a.index + 1 && a.failure.is_none() && b.failure.is_none() {
+                self.folds(a, b, &mut out);
+            }
+        }
+        out.sort_by(|x, y| x.value.total_cmp(&y.value));
+        out
+    }
+
+    /// Saddle-nodes between adjacent points: two branches of the same
+    /// support that end after `a` (or begin at `b`) with no root left near
+    /// them; or one branch that ends where it is non-hyperbolic (a value
+    /// exactly at the fold, where the two roots coincide).
+    fn folds(&self, a: &LinePoint, b: &LinePoint, out: &mut Vec<Bifurcation>) {
         for (here, there, ending) in [(a, b, true), (b, a, false)] {
             let lone: Vec<&BranchEquilibrium> = here
                 .equilibria
@@ -291,17 +331,23 @@ impl LinePlan {
                             &distance(&lone[i].equilibrium.state, &lone[k].equilibrium.state),
                         )
                     });
-                let Some(j) = partner else { continue };
-                let (e1, e2) = (&lone[i].equilibrium, &lone[j].equilibrium);
+                let e1 = &lone[i].equilibrium;
+                let (e2, partner_branch) = match partner {
+                    Some(j) => (&lone[j].equilibrium, Some(lone[j].branch)),
+                    None if degenerate(e1) => (e1, None),
+                    None => continue,
+                };
                 if !(e1.feasible || e2.feasible) {
                     continue;
                 }
                 let (exists_at, gone_at) = if ending { (a, b) } else { (b, a) };
                 if let Some(mut found) = self.locate_fold(e1, e2, exists_at.value, gone_at.value) {
                     used[i] = true;
-                    used[j] = true;
+                    if let Some(j) = partner {
+                        used[j] = true;
+                    }
                     found.branch = lone[i].branch;
-                    found.partner = Some(lone[j].branch);
+                    found.partner = partner_branch;
                     found.between = (a.index, b.index);
                     out.push(found);
                 }
@@ -460,6 +506,14 @@ fn distance(a: &[f64], b: &[f64]) -> f64 {
         .sqrt()
 }
 
+/// An equilibrium at a bifurcation: an eigenvalue with zero real part.
+fn degenerate(e: &Equilibrium) -> bool {
+    matches!(
+        e.stability,
+        crate::analysis::Stability::NonHyperbolic | crate::analysis::Stability::Center
+    )
+}
+
 /// Which species are exactly zero.
 fn support(e: &Equilibrium) -> Vec<bool> {
     e.state.iter().map(|&x| x == 0.0).collect()
@@ -495,62 +549,62 @@ fn det_trace_at(model: &ModelSpec, p: &Params, x: &State) -> (f64, f64) {
 /// Give each equilibrium a branch number: matched to the previous point's
 /// equilibria of the same support by distance to each branch's linear
 /// extrapolation (greedy, nearest first, within half the state's size);
+/// then, for the rest, to branches missing at the previous point only
+/// (two equilibria that coincide exactly at a grid value are one there);
 /// the rest start new branches.
 pub fn assign_branches(points: &mut [LinePoint]) {
     let mut next = 0usize;
     for k in 0..points.len() {
-        let value = points[k].value;
-        // (branch, predicted state, support) from the previous point.
-        let mut prior: Vec<(usize, Vec<f64>, Vec<bool>)> = Vec::new();
-        if k > 0 && points[k - 1].index + 1 == points[k].index {
-            let prev = &points[k - 1];
-            let before = (k > 1 && points[k - 2].index + 1 == prev.index).then(|| &points[k - 2]);
-            for e in &prev.equilibria {
-                let x1 = &e.equilibrium.state;
-                let predicted = match before.and_then(|b| {
-                    b.equilibria
+        // (tier, branch, predicted state, support): tier 0 from the
+        // previous point, tier 1 from the one before when missing since.
+        let mut prior: Vec<(u8, usize, Vec<f64>, Vec<bool>)> = Vec::new();
+        let consecutive = |k: usize, back: usize| {
+            k >= back && (0..back).all(|s| points[k - s - 1].index + 1 == points[k - s].index)
+        };
+        for (tier, back) in [(0u8, 1usize), (1, 2)] {
+            if !consecutive(k, back) {
+                continue;
+            }
+            let last = &points[k - back];
+            let before = consecutive(k, back + 1).then(|| &points[k - back - 1]);
+            for e in &last.equilibria {
+                if tier == 1
+                    && points[k - 1]
+                        .equilibria
                         .iter()
-                        .find(|f| f.branch == e.branch)
-                        .map(|f| (b.value, f))
-                }) {
-                    Some((v0, f)) if prev.value != v0 => {
-                        let t = (value - prev.value) / (prev.value - v0);
-                        x1.iter()
-                            .zip(&f.equilibrium.state)
-                            .map(|(x, x0)| x + t * (x - x0))
-                            .collect()
-                    }
-                    _ => x1.clone(),
-                };
-                prior.push((e.branch, predicted, support(&e.equilibrium)));
+                        .any(|f| f.branch == e.branch)
+                {
+                    continue;
+                }
+                prior.push((
+                    tier,
+                    e.branch,
+                    extrapolate(e, last.value, before, points[k].value),
+                    support(&e.equilibrium),
+                ));
             }
         }
         let current = &mut points[k].equilibria;
-        let mut pairs: Vec<(f64, usize, usize)> = Vec::new();
+        let mut pairs: Vec<(u8, f64, usize, usize)> = Vec::new();
         for (i, e) in current.iter().enumerate() {
-            for (j, (_, predicted, sup)) in prior.iter().enumerate() {
+            for (j, (tier, _, predicted, sup)) in prior.iter().enumerate() {
                 if *sup != support(&e.equilibrium) {
                     continue;
                 }
-                let size = 1.0
-                    + e.equilibrium
-                        .state
-                        .iter()
-                        .map(|v| v.abs())
-                        .fold(0.0, f64::max)
-                    + predicted.iter().map(|v| v.abs()).fold(0.0, f64::max);
+                let largest = |v: &[f64]| v.iter().map(|x| x.abs()).fold(0.0, f64::max);
+                let size = 1.0 + largest(&e.equilibrium.state) + largest(predicted);
                 let d = distance(&e.equilibrium.state, predicted) / size;
                 if d <= 0.5 {
-                    pairs.push((d, i, j));
+                    pairs.push((*tier, d, i, j));
                 }
             }
         }
-        pairs.sort_by(|a, b| a.0.total_cmp(&b.0));
+        pairs.sort_by(|a, b| a.0.cmp(&b.0).then(a.1.total_cmp(&b.1)));
         let mut assigned = vec![None; current.len()];
         let mut used = vec![false; prior.len()];
-        for (_, i, j) in pairs {
+        for (_, _, i, j) in pairs {
             if assigned[i].is_none() && !used[j] {
-                assigned[i] = Some(prior[j].0);
+                assigned[i] = Some(prior[j].1);
                 used[j] = true;
             }
         }
@@ -561,6 +615,30 @@ pub fn assign_branches(points: &mut [LinePoint]) {
             });
             next = next.max(e.branch + 1);
         }
+    }
+}
+
+/// Where branch `e` (seen at `value`) should be at `target`: linear
+/// extrapolation from its state at the point `before`, if it was there.
+fn extrapolate(
+    e: &BranchEquilibrium,
+    value: f64,
+    before: Option<&LinePoint>,
+    target: f64,
+) -> Vec<f64> {
+    let x1 = &e.equilibrium.state;
+    let earlier = before.and_then(|b| {
+        b.equilibria
+            .iter()
+            .find(|f| f.branch == e.branch)
+            .map(|f| (b.value, &f.equilibrium.state))
+    });
+    match earlier {
+        Some((v0, x0)) if value != v0 => {
+            let t = (target - value) / (value - v0);
+            x1.iter().zip(x0).map(|(x, x0)| x + t * (x - x0)).collect()
+        }
+        _ => x1.clone(),
     }
 }
 
