@@ -306,7 +306,7 @@ fn bad_requests_name_the_field() {
             2.0,
             5,
             Spacing::Linear,
-            "axis.from: K must lie in",
+            "axis.from: K must be > 0 and ≤ 1e12",
         ),
         (
             "K",

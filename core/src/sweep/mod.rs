@@ -182,7 +182,7 @@ impl AxisSpec {
         max_steps: usize,
     ) -> Result<Axis, SweepError> {
         let at = |name: &str| format!("{field}.{name}");
-        let (target, min, max) = if let Some(i) = harvest_index(&self.param) {
+        let (target, min, max, range) = if let Some(i) = harvest_index(&self.param) {
             if i >= model.n_species() {
                 return Err(invalid(
                     &at("param"),
@@ -194,7 +194,12 @@ impl AxisSpec {
                     ),
                 ));
             }
-            (Target::Harvest(i), -MAX_DENSITY, MAX_DENSITY)
+            (
+                Target::Harvest(i),
+                -MAX_DENSITY,
+                MAX_DENSITY,
+                format!("{} to {}", -MAX_DENSITY, MAX_DENSITY),
+            )
         } else {
             let i = model
                 .param_index(&self.param)
@@ -211,7 +216,7 @@ impl AxisSpec {
                         .join(", "),
                 })?;
             let spec = &model.params[i];
-            (Target::Param(i), spec.min, spec.max)
+            (Target::Param(i), spec.min, spec.max, spec.range_text())
         };
         for (name, v) in [("from", self.from), ("to", self.to)] {
             if !v.is_finite() {
@@ -223,7 +228,7 @@ impl AxisSpec {
             if v < min || v > max {
                 return Err(invalid(
                     &at(name),
-                    format!("{} must lie in {min} to {max}, got {v}", self.param),
+                    format!("{} must be {range}, got {v}", self.param),
                 ));
             }
         }
