@@ -102,3 +102,18 @@ def run_tussock(scenario):
         os.unlink(path)
     assert done.returncode == 0, done.stderr
     return json.loads(done.stdout)
+
+
+def run_tussock_sweep(scenario, args):
+    """`tussock sweep FILE ARGS... --json` on a scenario; the parsed JSON."""
+    binary = os.environ.get("TUSSOCK_BIN")
+    assert binary, "set TUSSOCK_BIN to the tussock binary (scripts/test does)"
+    with tempfile.NamedTemporaryFile("w", suffix=".json", delete=False) as f:
+        json.dump(scenario, f)
+        path = f.name
+    try:
+        done = subprocess.run([binary, "sweep", path, *args, "--json"], capture_output=True, text=True, check=False)
+    finally:
+        os.unlink(path)
+    assert done.returncode == 0, done.stderr
+    return json.loads(done.stdout)
