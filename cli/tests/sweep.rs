@@ -78,7 +78,7 @@ fn line_sweep_json_has_points_long_runs_and_the_hopf_point() {
 #[test]
 fn results_do_not_depend_on_the_number_of_threads() {
     let file = scenario("rm-threads.json", RM);
-    let args = "--param K --from 40 --to 600 --steps 12 --param2 m --from2 0.1 --to2 0.5 --steps2 9 --horizon 300 --simulate-all --json";
+    let args = "--param K --from 40 --to 600 --steps 8 --param2 m --from2 0.1 --to2 0.5 --steps2 5 --horizon 300 --simulate-all --json";
     let one = check(&file, &format!("{args} --threads 1"));
     let two = check(&file, &format!("{args} --threads 2"));
     assert!(one.status.success() && two.status.success());

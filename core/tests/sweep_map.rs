@@ -412,6 +412,46 @@ fn every_rule_agrees_with_simulation() {
     }
 }
 
+/// A hover on a cycle cell decided by theory also gets the cycle's range,
+/// which surrounds the unstable equilibrium (N* = 50 for m = 0.3;
+/// Rosenzweig 1971).
+#[test]
+fn cell_detail_adds_the_cycle_range_to_a_theory_cell() {
+    let p = rm(300.0, 0.3);
+    let request = MapRequest {
+        x: AxisSpec {
+            param: "K".into(),
+            from: 100.0,
+            to: 400.0,
+            steps: 4,
+            spacing: Spacing::Linear,
+        },
+        y: AxisSpec {
+            param: "m".into(),
+            from: 0.3,
+            to: 0.3,
+            steps: 1,
+            spacing: Spacing::Linear,
+        },
+        options: theory(),
+        shard: None,
+    };
+    let plan = request.plan(&p).unwrap();
+    let cell = plan.cell_detail(400.0, 0.3);
+    assert_eq!(
+        (cell.class, cell.rule),
+        (OutcomeClass::LimitCycle, Rule::PoincareBendixson)
+    );
+    let cycle = cell.cycle.expect("a simulated cycle");
+    assert!(cycle.min[0] < 50.0 && 50.0 < cycle.max[0], "{cycle:?}");
+    assert!(cycle.period.unwrap() > 0.0);
+    assert_eq!(
+        plan.cell(400.0, 0.3).cycle,
+        None,
+        "the map itself does not simulate it"
+    );
+}
+
 /// Cells theory cannot decide are simulated, and say why.
 #[test]
 fn undecided_cells_are_simulated_with_a_reason() {

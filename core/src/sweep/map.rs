@@ -89,7 +89,7 @@ pub struct Shard {
 
 impl Shard {
     pub fn holds(&self, row: usize) -> bool {
-        row % self.count == self.index - 1
+        self.count > 0 && row % self.count == self.index.wrapping_sub(1)
     }
 }
 
@@ -275,6 +275,26 @@ impl MapPlan {
             cycle: decided.cycle,
             reason: decided.reason,
         }
+    }
+
+    /// The cell at (x, y) for a hover or a click: classified as in the
+    /// map, and also simulated when theory decided it, so its cycle's range
+    /// and where runs settle are known (theory's class and rule are kept).
+    pub fn cell_detail(&self, x: f64, y: f64) -> MapCell {
+        let mut cell = self.cell(x, y);
+        if matches!(cell.rule, Rule::Simulation | Rule::Refused) {
+            return cell;
+        }
+        let model = self.problem.model;
+        let p = self.y.set(&self.x.set(&self.problem.params, x), y);
+        let scale = scale_at(model, &p, &self.problem.initial);
+        let equilibria = point_equilibria(model, &p, scale);
+        let simulated = self.simulate(&p, &equilibria, scale, String::new());
+        cell.cycle = simulated.cycle;
+        if cell.class == OutcomeClass::LimitCycle {
+            cell.attractors = simulated.attractors;
+        }
+        cell
     }
 
     fn classify(&self, p: &Params) -> Decided {
