@@ -38,9 +38,9 @@ from scipy.integrate import solve_ivp
 ROOT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
 
 
-def tussock():
+def tussock(example="time_solves"):
     out = subprocess.run(
-        ["cargo", "run", "--quiet", "--release", "-p", "tussock-core", "--example", "time_solves"],
+        ["cargo", "run", "--quiet", "--release", "-p", "tussock-core", "--example", example],
         cwd=ROOT, check=True, capture_output=True, text=True,
     ).stdout
     return json.loads(out)
@@ -83,14 +83,6 @@ cat(sprintf('{"standard": %.9g, "rosenzweig_macarthur": %.9g}\n',
 """
 
 
-def tussock_map():
-    out = subprocess.run(
-        ["cargo", "run", "--quiet", "--release", "-p", "tussock-core", "--example", "time_sweep"],
-        cwd=ROOT, check=True, capture_output=True, text=True,
-    ).stdout
-    return json.loads(out)
-
-
 def scipy_cell(p, k, m):
     r, a, h, e = p["r"], p["a"], p["h"], p["e"]
 
@@ -123,7 +115,7 @@ def time_scipy_map(t):
 
 
 def map_table():
-    t = tussock_map()
+    t = tussock("time_sweep")
     per_cell, classes = time_scipy_map(t)
     cells = t["cells"]
     scipy_whole = per_cell * cells

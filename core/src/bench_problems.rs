@@ -40,18 +40,21 @@ pub fn standard_non_stiff() -> Problem {
     )
 }
 
+/// Rosenzweig–MacArthur's default parameters.
+const ROSENZWEIG_MACARTHUR: [(&str, f64); 6] = [
+    ("r", 1.0),
+    ("K", 500.0),
+    ("a", 0.02),
+    ("h", 0.5),
+    ("e", 0.4),
+    ("m", 0.3),
+];
+
 /// Rosenzweig–MacArthur with its defaults over 1000 days, daily output.
 pub fn rosenzweig_macarthur_1000_days() -> Problem {
     build(
         "rosenzweig_macarthur",
-        &[
-            ("r", 1.0),
-            ("K", 500.0),
-            ("a", 0.02),
-            ("h", 0.5),
-            ("e", 0.4),
-            ("m", 0.3),
-        ],
+        &ROSENZWEIG_MACARTHUR,
         vec![100.0, 10.0],
         1000.0,
         1.0,
@@ -66,14 +69,7 @@ pub fn rosenzweig_macarthur_1000_days() -> Problem {
 pub fn rosenzweig_macarthur_map(simulate: Simulate) -> (Problem, MapRequest) {
     let problem = build(
         "rosenzweig_macarthur",
-        &[
-            ("r", 1.0),
-            ("K", 500.0),
-            ("a", 0.02),
-            ("h", 0.5),
-            ("e", 0.4),
-            ("m", 0.3),
-        ],
+        &ROSENZWEIG_MACARTHUR,
         vec![100.0, 10.0],
         2000.0,
         1.0,
