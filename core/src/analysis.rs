@@ -4,14 +4,14 @@
 
 use std::collections::HashMap;
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use crate::model::{Jacobian, ModelSpec, Outcome, Params, State};
 use crate::scenario::Problem;
 use crate::solve::{solve_with, SolverOptions, StopReason};
 
 /// Linear stability class of an equilibrium, from its eigenvalues.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
 pub enum Stability {
     #[serde(rename = "stable node")]
     StableNode,
@@ -51,7 +51,7 @@ impl Stability {
 pub type Eigenvalue = (f64, f64);
 
 /// One equilibrium with its linear stability.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct Equilibrium {
     /// Densities in state order (one per species).
     pub state: Vec<f64>,
@@ -129,11 +129,20 @@ fn jacobian_scale(j: &Jacobian, n: usize) -> f64 {
     m
 }
 
-/// Newton's method on dx/dt = 0 from `start`; None if it does not converge.
+/// Newton's method on dx/dt = 0 from `start`; None if it does not converge
+/// to a root (residual within 1e-8 relative to the state and Jacobian).
+pub fn refine_equilibrium(model: &ModelSpec, p: &Params, start: State) -> Option<State> {
+    newton(model, p, start, model.n_species())
+}
+
 fn newton(model: &ModelSpec, p: &Params, start: State, n: usize) -> Option<State> {
     let mut x = start;
     for _ in 0..100 {
         let f = model.derivative(p, &x);
+        if (0..n).all(|i| f[i] == 0.0) {
+            // Exactly a root (possibly where the Jacobian is singular).
+            break;
+        }
         let j = (model.jacobian)(p, &x);
         let step = if n == 1 {
             if j[(0, 0)] == 0.0 {
@@ -174,21 +183,36 @@ pub fn equilibria(model: &ModelSpec, p: &Params, scale: [f64; 2]) -> Vec<Equilib
             }
         }
     }
+    let roots = starts.into_iter().filter_map(|s| newton(model, p, s, n));
+    equilibria_at(model, p, roots, scale)
+}
+
+/// Equilibria at known roots of dx/dt = 0 (closed forms, or Newton's
+/// results): rounding noise near the axes tidied to zero, duplicates
+/// dropped, each classified by its eigenvalues. Feasible ones come first.
+pub fn equilibria_at(
+    model: &ModelSpec,
+    p: &Params,
+    roots: impl IntoIterator<Item = State>,
+    scale: [f64; 2],
+) -> Vec<Equilibrium> {
+    let n = model.n_species();
     let mut found: Vec<State> = Vec::new();
-    for start in starts {
-        if let Some(mut x) = newton(model, p, start, n) {
-            for i in 0..n {
-                // Tidy rounding noise around the axes.
-                if x[i].abs() <= 1e-12 * (1.0 + scale[i]) {
-                    x[i] = 0.0;
-                }
+    for mut x in roots {
+        if !x.iter().all(|v| v.is_finite()) {
+            continue;
+        }
+        for i in 0..n {
+            // Tidy rounding noise around the axes.
+            if x[i].abs() <= 1e-12 * (1.0 + scale[i]) {
+                x[i] = 0.0;
             }
-            let duplicate = found
-                .iter()
-                .any(|y| norm(&(y - x), n) <= 1e-7 * (1.0 + norm(&x, n)));
-            if !duplicate {
-                found.push(x);
-            }
+        }
+        let duplicate = found
+            .iter()
+            .any(|y| norm(&(y - x), n) <= 1e-7 * (1.0 + norm(&x, n)));
+        if !duplicate {
+            found.push(x);
         }
     }
     let mut out: Vec<Equilibrium> = found
@@ -279,7 +303,7 @@ pub fn nullclines(
 
 /// Marching squares for the zero level of `f`, segments joined into
 /// polylines through shared cell edges.
-fn march(
+pub(crate) fn march(
     f: &dyn Fn(f64, f64) -> f64,
     (x0, x1): (f64, f64),
     (y0, y1): (f64, f64),
@@ -295,7 +319,7 @@ fn march(
     for j in 0..=n {
         for i in 0..=n {
             let v = f(xs[i], ys[j]);
-            values[j * (n + 1) + i] = if v.is_finite() { v } else { 0.0 };
+            values[j * (n + 1) + i] = v;
         }
     }
     let val = |i: usize, j: usize| values[j * (n + 1) + i];
@@ -310,7 +334,8 @@ fn march(
             (i, j + 1)
         };
         let (a, b) = (val(i, j), val(i2, j2));
-        if (a > 0.0) == (b > 0.0) {
+        // Undefined (non-finite) corners cut nothing.
+        if !(a.is_finite() && b.is_finite()) || (a > 0.0) == (b > 0.0) {
             return None;
         }
         let t = a / (a - b);
@@ -390,7 +415,7 @@ fn march(
 }
 
 /// What the populations do in the long run.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum LongRunKind {
     Equilibrium,
@@ -401,7 +426,7 @@ pub enum LongRunKind {
     Failed,
 }
 
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct LongRun {
     pub kind: LongRunKind,
     /// Period of the cycle, in time units.
@@ -419,13 +444,28 @@ pub struct LongRun {
 /// Density below which a species counts as extinct in the long run.
 pub const EXTINCTION_DENSITY: f64 = 1e-6;
 
-/// Simulate long enough for transients to fade (at least the scenario's
-/// horizon, 200 of the slowest oscillation time scales of the feasible
-/// equilibria and 20 of the slowest decay time scales of the stable ones, at most
-/// 1e5 time units), then read the last quarter.
+/// Simulate long enough for transients to fade (see [`long_run_horizon`]),
+/// then read the last quarter.
 pub fn long_run(problem: &Problem, equilibria: &[Equilibrium]) -> LongRun {
-    let model = problem.model;
-    let n = model.n_species();
+    let t_end = long_run_horizon(equilibria, problem.t_end);
+    long_run_over(
+        problem.model,
+        &problem.params,
+        problem.initial,
+        t_end,
+        &problem.solver,
+        LONG_RUN_SAMPLES,
+    )
+}
+
+/// Output points in the window [`long_run`] reads.
+pub const LONG_RUN_SAMPLES: usize = 10_000;
+
+/// How long to simulate for transients to fade: at least `at_least`, 200
+/// of the slowest oscillation time scales of the feasible equilibria and 20
+/// of the slowest decay time scales of the stable ones, at most 1e5 time
+/// units.
+pub fn long_run_horizon(equilibria: &[Equilibrium], at_least: f64) -> f64 {
     // Time scales: oscillation (1/|λ|) at the feasible equilibria, and
     // decay (1/|Re λ|) towards the stable ones, long near a Hopf point.
     let eigs: Vec<(f64, f64)> = equilibria
@@ -452,28 +492,45 @@ pub fn long_run(problem: &Problem, equilibria: &[Equilibrium]) -> LongRun {
         .into_iter()
         .filter(|t| t.is_finite())
         .fold(0.0, f64::max);
-    let t_end = horizon.max(problem.t_end).min(1e5);
+    horizon.max(at_least).min(1e5)
+}
+
+/// The long-run behaviour from `initial`: integrate to 3/4 of `t_end`
+/// without keeping output, then read the last quarter from `samples` even
+/// output points. Tolerances are tightened to at least rtol 1e-8, atol 1e-10.
+pub fn long_run_over(
+    model: &ModelSpec,
+    params: &Params,
+    initial: State,
+    t_end: f64,
+    solver: &SolverOptions,
+    samples: usize,
+) -> LongRun {
+    let n = model.n_species();
     let options = SolverOptions {
-        rtol: problem.solver.rtol.min(1e-8),
-        atol: problem.solver.atol.min(1e-10),
-        ..problem.solver
+        rtol: solver.rtol.min(1e-8),
+        atol: solver.atol.min(1e-10),
+        ..*solver
     };
-    let traj = solve_with(
-        model,
-        &problem.params,
-        problem.initial,
-        t_end,
-        t_end / 40_000.0,
-        &options,
-    );
     let from = 0.75 * t_end;
-    let tail: Vec<(f64, State)> = traj
-        .times
-        .iter()
-        .zip(&traj.states)
-        .filter(|(t, _)| **t >= from)
-        .map(|(t, s)| (*t, *s))
-        .collect();
+    // Transients: a few output points only (the system is autonomous, so
+    // the window is integrated from its own t = 0).
+    let transient = solve_with(model, params, initial, from, from / 64.0, &options);
+    let (traj, tail) = match transient.states.last() {
+        Some(&start) if transient.stop.is_finished() => {
+            let window = t_end - from;
+            let step = window / samples.max(8) as f64;
+            let traj = solve_with(model, params, start, window, step, &options);
+            let tail: Vec<(f64, State)> = traj
+                .times
+                .iter()
+                .zip(&traj.states)
+                .map(|(t, s)| (*t + from, *s))
+                .collect();
+            (traj, tail)
+        }
+        _ => (transient, Vec::new()),
+    };
     let mut min = vec![f64::INFINITY; n];
     let mut max = vec![f64::NEG_INFINITY; n];
     for (_, s) in &tail {
@@ -580,10 +637,15 @@ impl From<Outcome> for OutcomeReport {
 /// A density scale per species for searching equilibria: twice the largest
 /// of the initial density, the closed-form equilibria and 1.
 pub fn search_scale(problem: &Problem) -> [f64; 2] {
+    search_scale_for(problem.model, &problem.params, &problem.initial)
+}
+
+/// [`search_scale`] for a model at `params` from `initial`.
+pub fn search_scale_for(model: &ModelSpec, params: &Params, initial: &State) -> [f64; 2] {
     let mut scale = [1.0_f64, 1.0_f64];
-    let closed = (problem.model.equilibria)(&problem.params);
-    for i in 0..problem.model.n_species() {
-        scale[i] = scale[i].max(problem.initial[i]);
+    let closed = (model.equilibria)(params);
+    for i in 0..model.n_species() {
+        scale[i] = scale[i].max(initial[i]);
         for e in &closed {
             if e[i].is_finite() {
                 scale[i] = scale[i].max(e[i].abs());

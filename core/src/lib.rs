@@ -18,6 +18,7 @@ pub mod plan;
 pub mod run;
 pub mod scenario;
 pub mod solve;
+pub mod sweep;
 
 pub use model::{Group, ModelSpec, ParamSpec, Params, State, Unit};
 pub use scenario::{Problem, Scenario, ScenarioError};

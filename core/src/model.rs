@@ -155,6 +155,43 @@ pub struct Outcome {
     pub text: String,
 }
 
+/// What theory guarantees about a model's long-run behaviour at given
+/// parameters, beyond what the eigenvalues of its equilibria say. Outcome
+/// maps use it to classify cells without simulating (see
+/// [`crate::sweep::map`]); every `true` must rest on a published argument
+/// named in the model's file. All `false` (the [`Default`]) is always safe:
+/// the cell is then simulated.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Guarantees {
+    /// Every orbit from non-negative densities stays bounded (the model is
+    /// dissipative), and each species' axis is invariant (no harvest or
+    /// immigration pushes a population off zero or through it).
+    pub bounded: bool,
+    /// No periodic orbit exists at non-negative densities (a Dulac
+    /// function, a competitive planar system, or one species).
+    pub no_cycles: bool,
+    /// A locally stable equilibrium with both species present attracts
+    /// every orbit that starts with both present (a Lyapunov function or a
+    /// global-stability theorem).
+    pub stable_interior_is_global: bool,
+    /// [`ModelSpec::equilibria`] lists every equilibrium, so no search is
+    /// needed.
+    pub closed_forms_complete: bool,
+}
+
+/// A curve in parameter space where a model's outcome changes, known in
+/// closed form: the zero set of `level` (e.g. K1 − α12·K2 for competition).
+/// Outcome maps trace it in the plane of the two parameters swept.
+#[derive(Debug)]
+pub struct BoundaryCurve {
+    /// Stable key (`species_1_invades`, `hopf`, …).
+    pub key: &'static str,
+    /// What crossing it means, in plain words.
+    pub label: &'static str,
+    /// The curve is where this is zero; `None` where it is undefined.
+    pub level: fn(&Params) -> Option<f64>,
+}
+
 /// Everything Tussock knows about one model.
 #[derive(Debug)]
 pub struct ModelSpec {
@@ -188,6 +225,10 @@ pub struct ModelSpec {
     /// Checks across parameters that single ranges cannot express; an
     /// error names the parameter's symbol and the reason.
     pub check: fn(&Params) -> Result<(), (&'static str, String)>,
+    /// What theory guarantees at these parameters (outcome maps).
+    pub guarantees: fn(&Params) -> Guarantees,
+    /// Outcome boundaries known in closed form (outcome-map overlays).
+    pub boundaries: &'static [BoundaryCurve],
 }
 
 impl ParamSpec {

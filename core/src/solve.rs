@@ -12,7 +12,7 @@ use std::cell::Cell;
 
 use ode_solvers::dop_shared::IntegrationError;
 use ode_solvers::{Dopri5, OutputType, System};
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use crate::events::Schedule;
 use crate::model::{ModelSpec, Params, State};
@@ -41,7 +41,7 @@ impl Default for SolverOptions {
 }
 
 /// Why a run stopped.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum StopReason {
     /// Reached the end of the horizon.

@@ -90,15 +90,26 @@ def reference_rhs(model, p, extra):
 
 
 
-def run_tussock(scenario):
+def run_cli(scenario, args):
+    """The real `tussock` on a scenario written to a temporary file:
+    `tussock ARGS[0] FILE ARGS[1:]`; the parsed JSON of its output."""
     binary = os.environ.get("TUSSOCK_BIN")
     assert binary, "set TUSSOCK_BIN to the tussock binary (scripts/test does)"
     with tempfile.NamedTemporaryFile("w", suffix=".json", delete=False) as f:
         json.dump(scenario, f)
         path = f.name
     try:
-        done = subprocess.run([binary, "run", "--json", path], capture_output=True, text=True, check=False)
+        done = subprocess.run([binary, args[0], path, *args[1:]], capture_output=True, text=True, check=False)
     finally:
         os.unlink(path)
     assert done.returncode == 0, done.stderr
     return json.loads(done.stdout)
+
+
+def run_tussock(scenario):
+    return run_cli(scenario, ["run", "--json"])
+
+
+def run_tussock_sweep(scenario, args):
+    """`tussock sweep FILE ARGS... --json` on a scenario; the parsed JSON."""
+    return run_cli(scenario, ["sweep", *args, "--json"])

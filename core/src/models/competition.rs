@@ -6,7 +6,9 @@
 //! dN1/dt = r1 N1 (1 − (N1 + α12 N2)/K1)
 //! dN2/dt = r2 N2 (1 − (N2 + α21 N1)/K2)
 
-use crate::model::{Group, Jacobian, ModelSpec, Outcome, ParamSpec, Params, State, Unit};
+use crate::model::{
+    BoundaryCurve, Group, Guarantees, Jacobian, ModelSpec, Outcome, ParamSpec, Params, State, Unit,
+};
 
 pub const R1: usize = 0;
 pub const R2: usize = 1;
@@ -37,7 +39,36 @@ pub static SPEC: ModelSpec = ModelSpec {
     equilibria,
     outcome,
     check: super::no_check,
+    guarantees,
+    boundaries: &[
+        BoundaryCurve {
+            key: "species_1_invades",
+            label: "K1 = α12·K2: beyond it species 1 can invade species 2",
+            level: |p| Some(p[K1] - p[ALPHA12] * p[K2]),
+        },
+        BoundaryCurve {
+            key: "species_2_invades",
+            label: "K2 = α21·K1: beyond it species 2 can invade species 1",
+            level: |p| Some(p[K2] - p[ALPHA21] * p[K1]),
+        },
+    ],
 };
+
+/// Without harvest the populations stay below their carrying capacities
+/// eventually (bounded), and B = 1/(N1·N2) is a Dulac function:
+/// div(B·f) = −r1/(K1·N2) − r2/(K2·N1) < 0, so there are no periodic orbits
+/// (Bendixson–Dulac; e.g. Hofbauer & Sigmund 1998, Evolutionary Games and
+/// Population Dynamics, §3.3; from memory). The four closed-form equilibria
+/// are all of them unless 1 − α12·α21 = 0.
+fn guarantees(p: &Params) -> Guarantees {
+    let plain = super::unharvested(p);
+    Guarantees {
+        bounded: plain,
+        no_cycles: plain && p[R1] > 0.0 && p[R2] > 0.0,
+        stable_interior_is_global: false,
+        closed_forms_complete: plain && (1.0 - p[ALPHA12] * p[ALPHA21]).abs() > 1e-12,
+    }
+}
 
 fn rhs(p: &Params, x: &State) -> State {
     let (n1, n2) = (x[0], x[1]);

@@ -5,7 +5,7 @@
 //!
 //! dN/dt = (b − d − emigration)·N + immigration
 
-use crate::model::{Group, Jacobian, ModelSpec, ParamSpec, Params, State, Unit};
+use crate::model::{Group, Guarantees, Jacobian, ModelSpec, ParamSpec, Params, State, Unit};
 
 pub const B: usize = 0;
 pub const D: usize = 1;
@@ -63,7 +63,21 @@ pub static SPEC: ModelSpec = ModelSpec {
     equilibria,
     outcome: super::no_outcome,
     check: super::no_check,
+    guarantees,
+    boundaries: &[],
 };
+
+/// One species: no cycles. Bounded when the net rate is negative; the one
+/// closed-form equilibrium is the only one unless the net rate is zero.
+fn guarantees(p: &Params) -> Guarantees {
+    let plain = super::unharvested(p);
+    Guarantees {
+        bounded: plain && net_rate(p) < 0.0,
+        no_cycles: true,
+        stable_interior_is_global: false,
+        closed_forms_complete: plain && net_rate(p) != 0.0,
+    }
+}
 
 fn net_rate(p: &Params) -> f64 {
     p[B] - p[D] - p[EMIGRATION]

@@ -10,7 +10,7 @@
 //! Conservation, eq. 2.1 form), else 1.
 
 use super::exponential::{BIRTH, DEATH, EMIGRATION_SPEC, IMMIGRATION_SPEC};
-use crate::model::{Group, Jacobian, ModelSpec, ParamSpec, Params, State, Unit};
+use crate::model::{Group, Guarantees, Jacobian, ModelSpec, ParamSpec, Params, State, Unit};
 
 pub const B: usize = 0;
 pub const D: usize = 1;
@@ -41,7 +41,28 @@ pub static SPEC: ModelSpec = ModelSpec {
     equilibria,
     outcome: super::no_outcome,
     check,
+    guarantees,
+    boundaries: &[],
 };
+
+/// One species: no cycles, and bounded by its carrying capacity plus what
+/// immigration brings. The quadratic's roots are every equilibrium when
+/// r = b − d ≠ 0; with an Allee threshold, 0, A and K are every equilibrium
+/// only without immigration and emigration.
+fn guarantees(p: &Params) -> Guarantees {
+    let plain = super::unharvested(p);
+    let complete = if p[ALLEE] > 0.0 {
+        p[IMMIGRATION] == 0.0 && p[EMIGRATION] == 0.0
+    } else {
+        p[B] != p[D]
+    };
+    Guarantees {
+        bounded: plain,
+        no_cycles: true,
+        stable_interior_is_global: false,
+        closed_forms_complete: plain && complete,
+    }
+}
 
 fn check(p: &Params) -> Result<(), (&'static str, String)> {
     if p[ALLEE] > 0.0 && p[B] <= p[D] {

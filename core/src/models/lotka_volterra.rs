@@ -8,7 +8,9 @@
 //!
 //! Leaving `K` out (infinite) gives the classical neutrally stable cycles.
 
-use crate::model::{Group, Jacobian, ModelSpec, ParamSpec, Params, State, Unit};
+use crate::model::{
+    BoundaryCurve, Group, Guarantees, Jacobian, ModelSpec, ParamSpec, Params, State, Unit,
+};
 
 pub const R: usize = 0;
 pub const A: usize = 1;
@@ -37,7 +39,29 @@ pub static SPEC: ModelSpec = ModelSpec {
     equilibria,
     outcome: super::no_outcome,
     check: super::no_check,
+    guarantees,
+    boundaries: &[BoundaryCurve {
+        key: "predator_persists",
+        label: "K = m/(e·a): above it the predator can persist",
+        level: |p| (p[K].is_finite() && p[E] * p[A] > 0.0).then(|| p[K] - p[M] / (p[E] * p[A])),
+    }],
 };
+
+/// With a finite K and no harvest the model is dissipative, and
+/// B = 1/(N·P) is a Dulac function: div(B·f) = −r/(K·P) < 0, so there are
+/// no periodic orbits (Bendixson–Dulac; e.g. Kot 2001, Elements of
+/// Mathematical Ecology, §6; from memory). Without K the neutral cycles of
+/// the classical model remain and nothing is guaranteed.
+fn guarantees(p: &Params) -> Guarantees {
+    let plain = super::unharvested(p);
+    let limited = plain && p[K].is_finite();
+    Guarantees {
+        bounded: limited,
+        no_cycles: limited && p[R] > 0.0,
+        stable_interior_is_global: false,
+        closed_forms_complete: plain && p[E] * p[A] > 0.0,
+    }
+}
 
 fn rhs(p: &Params, x: &State) -> State {
     let (n, pred) = (x[0], x[1]);

@@ -28,6 +28,12 @@ pub(crate) fn no_outcome(_: &Params) -> Option<Outcome> {
     None
 }
 
+/// No constant harvest or stocking: each species' axis is invariant, which
+/// the theory behind [`crate::model::Guarantees`] needs.
+pub(crate) fn unharvested(p: &Params) -> bool {
+    p.harvest.iter().all(|&h| h == 0.0)
+}
+
 /// For models without cross-parameter checks.
 pub(crate) fn no_check(_: &Params) -> Result<(), (&'static str, String)> {
     Ok(())

@@ -15,7 +15,8 @@
 //!   DeAngelis et al. 1975; predator interference c)
 
 use crate::model::{
-    ChoiceSpec, Group, Jacobian, ModelSpec, Outcome, ParamSpec, Params, State, Unit,
+    BoundaryCurve, ChoiceSpec, Group, Guarantees, Jacobian, ModelSpec, Outcome, ParamSpec, Params,
+    State, Unit,
 };
 
 pub const R: usize = 0;
@@ -69,7 +70,37 @@ pub static SPEC: ModelSpec = ModelSpec {
     equilibria,
     outcome,
     check: super::no_check,
+    guarantees,
+    boundaries: &[
+        BoundaryCurve {
+            key: "predator_persists",
+            label: "K = N*: above it the predator can persist",
+            level: |p| interior_prey(p).map(|n| p[K] - n),
+        },
+        BoundaryCurve {
+            key: "hopf",
+            label: "K = K_H: above it the equilibrium gives way to cycles (Hopf)",
+            level: |p| hopf_threshold(p).map(|k_h| p[K] - k_h),
+        },
+    ],
 };
+
+/// Without harvest the model is dissipative (prey below K eventually, and
+/// e·N + P bounded). Type I is Lotka–Volterra with logistic prey: no cycles
+/// by the Dulac function 1/(N·P). Type II: a locally stable interior
+/// equilibrium is globally stable in the interior (Hsu 1978, Math. Biosci.
+/// 39:1–10; the limit cycle above K_H is unique, Cheng 1981, SIAM J. Math.
+/// Anal. 12:541). Types I–III have one interior prey density at most, so
+/// their closed forms are complete; Beddington–DeAngelis needs a search.
+fn guarantees(p: &Params) -> Guarantees {
+    let plain = super::unharvested(p);
+    Guarantees {
+        bounded: plain,
+        no_cycles: plain && p.choice == HOLLING_I && p[R] > 0.0,
+        stable_interior_is_global: plain && p.choice == HOLLING_II,
+        closed_forms_complete: plain && p.choice != BEDDINGTON_DEANGELIS,
+    }
+}
 
 /// f(N, P) and its partial derivatives ∂f/∂N, ∂f/∂P.
 fn response(p: &Params, n: f64, pred: f64) -> (f64, f64, f64) {
