@@ -2,6 +2,8 @@
 //! `tussock-core`; every message to the user is one line, and no input makes
 //! it panic.
 
+mod fit;
+
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
@@ -43,6 +45,8 @@ enum Command {
     },
     /// Find the smallest release that meets a goal, over release size, time and number of releases.
     Plan(PlanArgs),
+    /// Fit the scenario's model to counts in a CSV file: estimates, intervals, AIC, warnings.
+    Fit(fit::FitArgs),
     /// List the models and their parameters.
     Models,
 }
@@ -110,6 +114,7 @@ fn main() -> ExitCode {
         Command::Run { file, json } => run(&file, json),
         Command::Analyze { file, json } => analyze(&file, json),
         Command::Plan(args) => plan(&args),
+        Command::Fit(args) => fit::run(&args),
         Command::Models => models(),
     };
     match outcome {
