@@ -189,12 +189,7 @@ fn num(v: f64) -> String {
     round_sig(v, 4)
 }
 
-fn print_table(
-    args: &FitArgs,
-    result: &FitResult,
-    imported: &Imported,
-    title: &str,
-) {
+fn print_table(args: &FitArgs, result: &FitResult, imported: &Imported, title: &str) {
     println!(
         "{title} fitted to {} ({} counts; {}).",
         args.data.display(),
@@ -267,11 +262,17 @@ fn print_table(
             println!("  {name:<10} {}", cells.join(" "));
         }
     }
-    let good = result.starts.iter().filter(|s| s.objective.is_some()).count();
+    let good = result
+        .starts
+        .iter()
+        .filter(|s| s.objective.is_some())
+        .count();
     println!(
         "Starts: {good} of {} fitted; best was start {}.",
         result.starts.len(),
-        result.best_start.map_or("–".into(), |b| (b + 1).to_string())
+        result
+            .best_start
+            .map_or("–".into(), |b| (b + 1).to_string())
     );
     if result.warnings.is_empty() {
         println!("No warnings.");

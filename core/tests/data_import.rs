@@ -119,7 +119,10 @@ fn semicolons_with_decimal_commas_and_quoted_fields() {
         PP,
         Expect::Data(
             &[0.0, 0.5],
-            &[(0, &[Some(12.5), Some(13.0)]), (1, &[Some(1.0), Some(1.25)])],
+            &[
+                (0, &[Some(12.5), Some(13.0)]),
+                (1, &[Some(1.0), Some(1.25)]),
+            ],
             "time: \"Zeit\"; prey: \"prey\" (by name); predator: \"predator\" (by name)",
         ),
     );
@@ -139,7 +142,11 @@ fn semicolons_with_decimal_commas_and_quoted_fields() {
 fn bad_files_get_clear_messages() {
     check("", PP, Expect::Error(&["the file is empty"]));
     check("  \n\n", PP, Expect::Error(&["the file is empty"]));
-    check("day,prey\n", PP, Expect::Error(&["header but no data rows"]));
+    check(
+        "day,prey\n",
+        PP,
+        Expect::Error(&["header but no data rows"]),
+    );
     check(
         "day,prey\n0,5\n",
         PP,
@@ -202,7 +209,11 @@ fn bad_files_get_clear_messages() {
         PP,
         Expect::Error(&["columns:", "\"a\", \"b\", \"c\""]),
     );
-    check("day\n0\n1\n", PP, Expect::Error(&["columns: found 1 column"]));
+    check(
+        "day\n0\n1\n",
+        PP,
+        Expect::Error(&["columns: found 1 column"]),
+    );
     check(
         "day,prey\n0,NA\n1,\n",
         PP,

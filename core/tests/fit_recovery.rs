@@ -130,7 +130,8 @@ fn check(case: Case) {
         series,
     };
     let spec = models::find(case.model).unwrap();
-    let mut scenario = Scenario::with_defaults(spec, case.initial[..spec.n_species()].to_vec(), 1.0);
+    let mut scenario =
+        Scenario::with_defaults(spec, case.initial[..spec.n_species()].to_vec(), 1.0);
     // Start the search away from the truth: the scenario holds 1.3 × truth.
     for &(k, v) in case.truth {
         let estimated = case.estimate.iter().any(|e| e.0 == k);
@@ -174,7 +175,8 @@ fn check(case: Case) {
             100.0 * rel,
             100.0 * case.tolerance
         );
-        let se = e.se.unwrap_or_else(|| panic!("{}: no se for {}", case.name, e.name));
+        let se =
+            e.se.unwrap_or_else(|| panic!("{}: no se for {}", case.name, e.name));
         assert!(
             (e.value - truth).abs() <= 3.0 * se,
             "{}: {} = {} is more than 3 se ({se}) from the truth {truth}",
@@ -185,7 +187,12 @@ fn check(case: Case) {
         let [Some(lo), Some(hi)] = e.ci else {
             panic!("{}: {} has an open interval {:?}", case.name, e.name, e.ci)
         };
-        assert!(lo < e.value && e.value < hi, "{}: {} outside its interval", case.name, e.name);
+        assert!(
+            lo < e.value && e.value < hi,
+            "{}: {} outside its interval",
+            case.name,
+            e.name
+        );
     }
 }
 
@@ -227,7 +234,9 @@ fn lotka_volterra_with_log_normal_noise() {
         model: "lotka_volterra",
         truth: &[("r", 0.5), ("a", 0.02), ("e", 0.3), ("m", 0.4)],
         initial: [40.0, 8.0],
-        means: (0..2).map(|s| states.iter().map(|x| x[s]).collect()).collect(),
+        means: (0..2)
+            .map(|s| states.iter().map(|x| x[s]).collect())
+            .collect(),
         times,
         noise: Noise::LogNormal(0.08),
         seed: 2,
@@ -259,7 +268,9 @@ fn rosenzweig_macarthur_with_log_normal_noise() {
             ("m", 0.3),
         ],
         initial: [100.0, 10.0],
-        means: (0..2).map(|s| states.iter().map(|x| x[s]).collect()).collect(),
+        means: (0..2)
+            .map(|s| states.iter().map(|x| x[s]).collect())
+            .collect(),
         times,
         noise: Noise::LogNormal(0.05),
         seed: 5,
@@ -294,7 +305,9 @@ fn competition_with_negative_binomial_counts() {
             ("alpha21", 0.5),
         ],
         initial: [20.0, 20.0],
-        means: (0..2).map(|s| states.iter().map(|x| x[s]).collect()).collect(),
+        means: (0..2)
+            .map(|s| states.iter().map(|x| x[s]).collect())
+            .collect(),
         times,
         noise: Noise::NegativeBinomial(100.0),
         seed: 4,
