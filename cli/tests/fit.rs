@@ -42,11 +42,7 @@ fn logistic_counts() -> String {
 fn fit_on(csv: &str, extra: &[&str]) -> (bool, String, String) {
     let scenario = write("logistic.json", SCENARIO);
     let data = write(&format!("d{}.csv", csv.len()), csv);
-    let mut args = vec![
-        "fit",
-        scenario.to_str().unwrap(),
-        data.to_str().unwrap(),
-    ];
+    let mut args = vec!["fit", scenario.to_str().unwrap(), data.to_str().unwrap()];
     args.extend_from_slice(extra);
     let out = tussock(&args);
     (
@@ -60,7 +56,15 @@ fn fit_on(csv: &str, extra: &[&str]) -> (bool, String, String) {
 fn json_has_estimates_with_intervals_aic_and_warnings() {
     let (ok, out, err) = fit_on(
         &logistic_counts(),
-        &["--estimate", "b,K,init1", "--bounds", "b=0.01:5,K=10:1e5", "--starts", "4", "--json"],
+        &[
+            "--estimate",
+            "b,K,init1",
+            "--bounds",
+            "b=0.01:5,K=10:1e5",
+            "--starts",
+            "4",
+            "--json",
+        ],
     );
     assert!(ok, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
@@ -75,7 +79,10 @@ fn json_has_estimates_with_intervals_aic_and_warnings() {
         let hi = e["ci"][1].as_f64().unwrap();
         assert!(lo < value && value < hi && e["se"].as_f64().unwrap() > 0.0);
     }
-    assert_eq!(v["estimates"]["b"]["bounds"], serde_json::json!([0.01, 5.0]));
+    assert_eq!(
+        v["estimates"]["b"]["bounds"],
+        serde_json::json!([0.01, 5.0])
+    );
     assert_eq!(v["n_observations"], 17);
     assert_eq!(v["n_estimated"], 4); // b, K, init1 and σ
     let aic = v["aic"].as_f64().unwrap();
@@ -84,18 +91,32 @@ fn json_has_estimates_with_intervals_aic_and_warnings() {
     assert!((aicc - aic - 40.0 / 12.0).abs() < 1e-9);
     assert!(v["warnings"].is_array());
     assert_eq!(v["objective_kind"], "log_ls");
-    assert_eq!(v["import"]["mapping"], "time: \"day\"; population: \"population\" (by name)");
+    assert_eq!(
+        v["import"]["mapping"],
+        "time: \"day\"; population: \"population\" (by name)"
+    );
 }
 
 #[test]
 fn the_table_names_estimates_and_the_same_seed_repeats_itself() {
-    let args = ["--estimate", "b,K", "--starts", "3", "--seed", "9", "--no-profiles"];
+    let args = [
+        "--estimate",
+        "b,K",
+        "--starts",
+        "3",
+        "--seed",
+        "9",
+        "--no-profiles",
+    ];
     let (ok, first, err) = fit_on(&logistic_counts(), &args);
     assert!(ok, "{err}");
     assert!(first.contains("birth rate") && first.contains("carrying capacity"));
     assert!(first.contains("AICc"));
     let (_, second, _) = fit_on(&logistic_counts(), &args);
-    assert_eq!(first, second, "a fit with the same seed must repeat exactly");
+    assert_eq!(
+        first, second,
+        "a fit with the same seed must repeat exactly"
+    );
 }
 
 #[test]
@@ -104,7 +125,15 @@ fn a_parameter_the_data_cannot_see_is_flagged() {
     // cannot bound it from below (the profile is flat towards 0).
     let (ok, out, err) = fit_on(
         &logistic_counts(),
-        &["--estimate", "b,K,immigration", "--bounds", "immigration=0:0.01", "--starts", "3", "--json"],
+        &[
+            "--estimate",
+            "b,K,immigration",
+            "--bounds",
+            "immigration=0:0.01",
+            "--starts",
+            "3",
+            "--json",
+        ],
     );
     assert!(ok, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
@@ -125,7 +154,15 @@ fn save_writes_the_scenario_with_fitted_values() {
     let out_path = dir().join("fitted.json");
     let (ok, _, err) = fit_on(
         &logistic_counts(),
-        &["--estimate", "b,K", "--starts", "2", "--no-profiles", "--save", out_path.to_str().unwrap()],
+        &[
+            "--estimate",
+            "b,K",
+            "--starts",
+            "2",
+            "--no-profiles",
+            "--save",
+            out_path.to_str().unwrap(),
+        ],
     );
     assert!(ok, "{err}");
     let saved: serde_json::Value =
@@ -139,7 +176,11 @@ fn save_writes_the_scenario_with_fitted_values() {
 fn bad_inputs_get_one_line_errors_and_a_failing_exit() {
     let cases: &[(&str, &[&str], &str)] = &[
         ("", &["--estimate", "b"], "the file is empty"),
-        ("day,population\n0,5\n", &["--estimate", "b"], "only one data row (line 2)"),
+        (
+            "day,population\n0,5\n",
+            &["--estimate", "b"],
+            "only one data row (line 2)",
+        ),
         (
             "day,population\n0,5\n1,many\n2,7\n",
             &["--estimate", "b"],
@@ -184,7 +225,10 @@ fn bad_inputs_get_one_line_errors_and_a_failing_exit() {
     for (csv, args, message) in cases {
         let (ok, _, err) = fit_on(csv, args);
         assert!(!ok, "{csv:?} {args:?} should fail");
-        assert!(err.contains(message), "{csv:?} {args:?}: expected {message:?} in {err:?}");
+        assert!(
+            err.contains(message),
+            "{csv:?} {args:?}: expected {message:?} in {err:?}"
+        );
         assert_eq!(err.trim_end().lines().count(), 1, "one line: {err}");
         assert!(err.starts_with("tussock: "), "{err}");
     }

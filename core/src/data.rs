@@ -304,7 +304,8 @@ impl std::fmt::Display for RowProblem {
 }
 
 /// Why a CSV text cannot be read as counts.
-#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+#[derive(Clone, Debug, PartialEq, thiserror::Error, Serialize, Deserialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
 pub enum ImportError {
     #[error("the file is empty")]
     Empty,
