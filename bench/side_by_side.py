@@ -20,6 +20,12 @@ last quarter: both below 1e-6 -> extinct, a relative prey range above 1e-3
 -> cycle, else the survivors at equilibrium. It is timed on a 4 x 4
 subsample of cells and scaled to the 40 000; Tussock's every-cell-simulated
 mode (three starts a cell) is timed on the same cells.
+Fit (defined once in core/src/bench_problems.rs, printed with its data and
+starts by core/examples/time_fits.rs): six Rosenzweig-MacArthur parameters
+from 40 counts by least squares on ln(count + 1), from the same 8 starts in
+both: Tussock's Levenberg-Marquardt against scipy.optimize.least_squares
+(trust-region reflective with bounds, x_scale="jac") on solve_ivp RK45 at
+the same tolerances (rtol 1e-9).
 
 Usage: scripts/bench (installs what is missing), or
 python3 bench/side_by_side.py with scipy importable and Rscript on PATH.
@@ -44,6 +50,37 @@ def tussock(example="time_solves"):
         cwd=ROOT, check=True, capture_output=True, text=True,
     ).stdout
     return json.loads(out)
+
+
+def time_scipy_fit(problem):
+    """Seconds for scipy's least_squares from every start of the problem."""
+    from scipy.optimize import least_squares
+    times = np.array(problem["times"])
+    counts = np.array(problem["counts"], dtype=float)
+    names = problem["names"]
+    fixed = dict(problem["truth"])
+    atol = 1e-9 * max(1.0, counts.max()) * 1e-3
+
+    def residuals(theta):
+        p = dict(fixed)
+        p.update(zip(names, theta))
+        def f(_t, x):
+            n, q = x
+            g = p["a"] * n / (1 + p["a"] * p["h"] * n)
+            return [p["r"] * n * (1 - n / p["K"]) - g * q, p["e"] * g * q - p["m"] * q]
+        sol = solve_ivp(f, (0.0, times[-1]), problem["initial"], method="RK45", t_eval=times,
+                        rtol=1e-9, atol=atol)
+        if not sol.success or sol.y.shape[1] != len(times):
+            return np.full(counts.size, 1e10)
+        return (np.log1p(counts) - np.log1p(np.maximum(sol.y, 0))).ravel()
+
+    best = np.inf
+    start = timeit.default_timer()
+    for x0 in problem["starts"]:
+        fit = least_squares(residuals, x0, bounds=(problem["lower"], problem["upper"]), method="trf",
+                            x_scale="jac")
+        best = min(best, 2 * fit.cost)
+    return timeit.default_timer() - start, best
 
 
 def standard(_t, x):
@@ -159,6 +196,13 @@ def main():
               f"{(f'{rr * 1e3:.2f} ms') if rr else 'not measured (no Rscript)'} | "
               f"{theirs / ours:.0f}× faster | {(f'{rr / ours:.0f}× faster') if rr else '–'} |")
     map_table()
+    fit = tussock("time_fits")
+    scipy_seconds, scipy_best = time_scipy_fit(fit)
+    print("\n| fit | Tussock | scipy least_squares | Tussock vs scipy |")
+    print("| --- | --- | --- | --- |")
+    print(f"| Rosenzweig–MacArthur, 6 parameters, 40 counts, {len(fit['starts'])} starts | "
+          f"{fit['seconds'] * 1e3:.0f} ms (objective {fit['objective']:.6f}) | "
+          f"{scipy_seconds:.1f} s (objective {scipy_best:.6f}) | {scipy_seconds / fit['seconds']:.0f}× faster |")
     print(f"\nMeasured {os.popen('date -u +%Y-%m-%d').read().strip()} on {os.cpu_count()} cores; "
           f"Python {sys.version.split()[0]}, scipy {__import__('scipy').__version__}.")
 

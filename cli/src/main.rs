@@ -3,6 +3,7 @@
 //! it panic.
 
 mod sweep;
+mod fit;
 
 use std::io::Write;
 use std::path::{Path, PathBuf};
@@ -47,6 +48,8 @@ enum Command {
     Plan(PlanArgs),
     /// Sweep one parameter (equilibria, long run, bifurcations) or two (an outcome map).
     Sweep(sweep::SweepArgs),
+    /// Fit the scenario's model to counts in a CSV file: estimates, intervals, AIC, warnings.
+    Fit(fit::FitArgs),
     /// List the models and their parameters.
     Models,
 }
@@ -115,6 +118,7 @@ fn main() -> ExitCode {
         Command::Analyze { file, json } => analyze(&file, json),
         Command::Plan(args) => plan(&args),
         Command::Sweep(args) => sweep::sweep(&args),
+        Command::Fit(args) => fit::run(&args),
         Command::Models => models(),
     };
     match outcome {

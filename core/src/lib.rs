@@ -10,7 +10,9 @@
 
 pub mod analysis;
 pub mod bench_problems;
+pub mod data;
 pub mod events;
+pub mod fit;
 pub mod metrics;
 pub mod model;
 pub mod models;

@@ -113,3 +113,17 @@ def run_tussock(scenario):
 def run_tussock_sweep(scenario, args):
     """`tussock sweep FILE ARGS... --json` on a scenario; the parsed JSON."""
     return run_cli(scenario, ["sweep", *args, "--json"])
+def run_tussock_fit(scenario, csv_text, args):
+    """Run the real `tussock fit SCENARIO DATA --json ARGS…`; returns the JSON."""
+    binary = os.environ.get("TUSSOCK_BIN")
+    assert binary, "set TUSSOCK_BIN to the tussock binary (scripts/test does)"
+    with tempfile.TemporaryDirectory() as d:
+        s_path, d_path = os.path.join(d, "s.json"), os.path.join(d, "d.csv")
+        with open(s_path, "w") as f:
+            json.dump(scenario, f)
+        with open(d_path, "w") as f:
+            f.write(csv_text)
+        done = subprocess.run([binary, "fit", s_path, d_path, "--json", *args],
+                              capture_output=True, text=True, check=False)
+    assert done.returncode == 0, done.stderr
+    return json.loads(done.stdout)
