@@ -2,8 +2,8 @@
 //! `tussock-core`; every message to the user is one line, and no input makes
 //! it panic.
 
-mod sweep;
 mod fit;
+mod sweep;
 
 use std::io::Write;
 use std::path::{Path, PathBuf};
