@@ -7,8 +7,17 @@
 //! dP/dt = e a N P − m P
 //!
 //! Leaving `K` out (infinite) gives the classical neutrally stable cycles.
+//!
+//! Demographic events for stochastic runs (each changes one species by one
+//! individual; the rates sum back to the equations above):
+//! - prey births r·N (+1 prey);
+//! - prey crowding deaths r·N²/K (−1 prey; none without K);
+//! - predation a·N·P (−1 prey);
+//! - predator births e·a·N·P (+1 predator), a separate event from the
+//!   predation that feeds it, so any efficiency e is allowed;
+//! - predator deaths m·P (−1 predator).
 
-use crate::model::{Group, Jacobian, ModelSpec, ParamSpec, Params, State, Unit};
+use crate::model::{Group, Jacobian, ModelSpec, ParamSpec, Params, Propensities, State, Unit};
 
 pub const R: usize = 0;
 pub const A: usize = 1;
@@ -37,6 +46,8 @@ pub static SPEC: ModelSpec = ModelSpec {
     equilibria,
     outcome: super::no_outcome,
     check: super::no_check,
+    channels: &super::PREDATOR_PREY_CHANNELS,
+    propensities,
 };
 
 fn rhs(p: &Params, x: &State) -> State {
@@ -70,4 +81,19 @@ fn equilibria(p: &Params) -> Vec<State> {
         out.push(State::new(n, p[R] / p[A] * (1.0 - n / p[K])));
     }
     out
+}
+
+fn propensities(p: &Params, x: &State, out: &mut Propensities) {
+    let (n, pred) = (x[0], x[1]);
+    let predation = p[A] * n * pred;
+    *out = [
+        p[R] * n,
+        p[R] * n * n / p[K],
+        predation,
+        p[E] * predation,
+        p[M] * pred,
+        0.0,
+        0.0,
+        0.0,
+    ];
 }
