@@ -17,6 +17,7 @@ pub mod models;
 pub mod plan;
 pub mod scenario;
 pub mod solve;
+pub mod stochastic;
 
 pub use model::{Group, ModelSpec, ParamSpec, Params, State, Unit};
 pub use scenario::{Problem, Scenario, ScenarioError};

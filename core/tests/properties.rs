@@ -177,3 +177,39 @@ proptest! {
         }
     }
 }
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(200))]
+
+    /// With harvest (positive) or stocking (negative) the stochastic
+    /// process adds a removal or addition channel; at states of one
+    /// individual or more its expected change is still the ODE's derivative
+    /// with harvest (the solver's right-hand side, cross-checked against
+    /// scipy in tests/python).
+    #[test]
+    fn expected_change_with_harvest_is_the_ode_derivative(
+        (model, p, x) in model_params_state(),
+        harvest in (-5.0..5.0f64, -5.0..5.0f64),
+    ) {
+        let n = model.n_species();
+        let mut problem = tussock_core::Scenario::with_defaults(
+            model,
+            model.default_initial.to_vec(),
+            10.0,
+        )
+        .validate()
+        .unwrap();
+        let mut p = p;
+        p.harvest = State::new(harvest.0, if n == 2 { harvest.1 } else { 0.0 });
+        problem.params = p;
+        let x = x.map(|v| v.round().max(1.0));
+        let x = State::new(x[0], if n == 2 { x[1] } else { 0.0 });
+        let drift = tussock_core::stochastic::expected_change(&problem, 0.0, &x);
+        let f = model.derivative(&p, &x);
+        for i in 0..n {
+            let scale = 1.0 + f[i].abs() + x[i] * 10.0;
+            prop_assert!((drift[i] - f[i]).abs() <= 1e-9 * scale,
+                "{}: species {i}: {} vs {} at {:?}", model.key, drift[i], f[i], x);
+        }
+    }
+}
