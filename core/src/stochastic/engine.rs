@@ -227,6 +227,7 @@ impl Engine {
 
     /// Rates of every channel at `x` (no noise), with the segment's
     /// removal and addition rates; returns their sum.
+    #[inline]
     fn rates(
         &self,
         x: &State,
@@ -235,18 +236,19 @@ impl Engine {
         multiplier: Option<&[f64; 2]>,
         a: &mut [f64; ALL_CHANNELS],
     ) -> f64 {
-        let mut model_rates = [0.0; MAX_CHANNELS];
-        (self.model.propensities)(&self.params, x, &mut model_rates);
-        if let Some(mult) = multiplier {
-            for (rate, birth_of) in model_rates.iter_mut().zip(&self.birth_of) {
-                if let Some(i) = *birth_of {
-                    *rate *= mult[i & 1];
+        let (head, _) = a.split_at_mut(MAX_CHANNELS);
+        if let Ok(model_rates) = <&mut [f64; MAX_CHANNELS]>::try_from(head) {
+            (self.model.propensities)(&self.params, x, model_rates);
+            if let Some(mult) = multiplier {
+                for (rate, birth_of) in model_rates.iter_mut().zip(&self.birth_of) {
+                    if let Some(i) = *birth_of {
+                        *rate *= mult[i & 1];
+                    }
                 }
             }
         }
-        a[..MAX_CHANNELS].copy_from_slice(&model_rates);
         // A pairwise sum: short dependency chains keep the exact method fast.
-        let r = &model_rates;
+        let r = &a;
         let mut sum = ((r[0] + r[1]) + (r[2] + r[3])) + ((r[4] + r[5]) + (r[6] + r[7]));
         // Removal and addition channels sit after the model's; a species at
         // zero cannot be harvested further (as in the ODE).
