@@ -204,9 +204,9 @@ fn exponential_draws_follow_the_exponential_distribution() {
         1.0,
         ((9.0 - 1.0) / n).sqrt(),
     );
-    for x in [0.01, 0.1, 0.5, 1.0, 2.5, 5.0, 7.0, 8.0, 10.0] {
+    for x in [0.01f64, 0.1, 0.5, 1.0, 2.5, 5.0, 7.0, 8.0, 10.0] {
         let share = draws.iter().filter(|&&d| d <= x).count() as f64 / n;
-        let p = 1.0 - (-x as f64).exp();
+        let p: f64 = 1.0 - (-x).exp();
         check(
             &format!("exponential P(X ≤ {x})"),
             share,
