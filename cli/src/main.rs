@@ -2,6 +2,8 @@
 //! `tussock-core`; every message to the user is one line, and no input makes
 //! it panic.
 
+mod ensemble;
+
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
@@ -45,6 +47,10 @@ enum Command {
     Plan(PlanArgs),
     /// List the models and their parameters.
     Models,
+    /// Run many stochastic simulations: extinction risk, time to extinction and the spread of outcomes.
+    Ensemble(ensemble::EnsembleArgs),
+    /// Chance that released founders establish, by number of founders and releases.
+    Founders(ensemble::FoundersArgs),
 }
 
 #[derive(clap::Args)]
@@ -111,6 +117,8 @@ fn main() -> ExitCode {
         Command::Analyze { file, json } => analyze(&file, json),
         Command::Plan(args) => plan(&args),
         Command::Models => models(),
+        Command::Ensemble(args) => ensemble::ensemble(&args),
+        Command::Founders(args) => ensemble::founders(&args),
     };
     match outcome {
         Ok(()) => ExitCode::SUCCESS,
