@@ -524,3 +524,53 @@ fn pest_under_threshold_and_quasi_extinction_match_the_binomial() {
         0.0,
     );
 }
+
+#[test]
+fn scheduled_harvest_and_stocking_rates_are_poisson_streams() {
+    // No births or deaths. Harvest of 10 a day from day 1 to 5 removes a
+    // Poisson(40) number (the population never runs out), stocking of 6 a
+    // day from day 2 to 7 adds a Poisson(30) number: N(8) = 1000 − X + Y,
+    // mean 990, variance 70 (independent Poisson streams; e.g. Bailey 1964,
+    // §7.2).
+    let mut scenario = common::scenario(
+        "exponential",
+        &[("b", 0.0), ("d", 0.0)],
+        &[1000.0],
+        8.0,
+        1.0,
+    );
+    scenario.events = vec![
+        EventSpec {
+            time: 1.0,
+            species: 0,
+            harvest_rate: Some(10.0),
+            until: Some(5.0),
+            ..EventSpec::default()
+        },
+        EventSpec {
+            time: 2.0,
+            species: 0,
+            stocking_rate: Some(6.0),
+            until: Some(7.0),
+            ..EventSpec::default()
+        },
+    ];
+    let p = scenario.validate().unwrap();
+    for method in [Method::Exact, Method::TauLeap] {
+        let values = finals(&p, &options(4000, 6, method));
+        // μ₄ of a sum of independent parts: λ₁(1 + 3λ₁) + λ₂(1 + 3λ₂) + 6λ₁λ₂.
+        let mu4 = 40.0 * 121.0 + 30.0 * 91.0 + 6.0 * 40.0 * 30.0;
+        // Constant rates: a Poisson leap is exact here, so no allowance.
+        check_moments(
+            &format!("harvest and stocking {method:?}"),
+            &values,
+            (990.0, 70.0, mu4),
+            0.0,
+        );
+    }
+    // An individual run on demand comes on the summary grid.
+    let ensemble = Ensemble::new(&p, &options(1, 6, Method::Exact)).unwrap();
+    let run = ensemble.individual_run(0);
+    assert_eq!(run.states[0].len(), ensemble.times().len());
+    assert_eq!(run.states[0][0], 1000.0);
+}

@@ -265,25 +265,29 @@ impl Engine {
         sum
     }
 
-    /// Net removal per species at time `t`: constant harvest plus the
-    /// schedule's rates active then.
-    fn net_removal(&self, t: f64) -> [f64; 2] {
-        let mut out = [self.params.harvest[0], self.params.harvest[1]];
+    /// Removal (harvest) and addition (stocking) rates per species at time
+    /// `t`: the constant harvest (positive) or stocking (negative) plus the
+    /// schedule's rates active then, harvests and stockings kept apart so
+    /// that each is its own stream of events.
+    fn removal_and_addition(&self, t: f64) -> ([f64; 2], [f64; 2]) {
+        let mut removal = [0.0; 2];
+        let mut addition = [0.0; 2];
+        let mut put = |species: usize, rate: f64| {
+            if rate > 0.0 {
+                removal[species] += rate;
+            } else {
+                addition[species] -= rate;
+            }
+        };
+        put(0, self.params.harvest[0]);
+        put(1, self.params.harvest[1]);
         for r in &self.rates {
             if r.start <= t && t < r.end {
-                out[r.species] += r.removal;
+                put(r.species, r.removal);
             }
         }
-        out
+        (removal, addition)
     }
-}
-
-/// Removal and addition rates from a net removal (negative = stocking).
-fn split_removal(net: [f64; 2]) -> ([f64; 2], [f64; 2]) {
-    (
-        [net[0].max(0.0), net[1].max(0.0)],
-        [(-net[0]).max(0.0), (-net[1]).max(0.0)],
-    )
 }
 
 /// Σ change × rate over every channel at time `t` and state `x`: the
@@ -296,7 +300,7 @@ pub fn expected_change(problem: &Problem, t: f64, x: &State) -> State {
         [None; 2],
         StochasticOptions::default(),
     );
-    let (removal, addition) = split_removal(engine.net_removal(t));
+    let (removal, addition) = engine.removal_and_addition(t);
     let mut a = [0.0; ALL_CHANNELS];
     engine.rates(x, &removal, &addition, None, &mut a);
     let mut drift = State::zeros();
@@ -343,7 +347,7 @@ impl Run<'_> {
             if noise.is_some() && next_tick < seg_end {
                 seg_end = next_tick;
             }
-            let (removal, addition) = split_removal(e.net_removal(self.t));
+            let (removal, addition) = e.removal_and_addition(self.t);
             self.removal = removal;
             self.addition = addition;
             if let Err(stop) = self.segment(seg_end) {

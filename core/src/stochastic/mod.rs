@@ -4,11 +4,16 @@
 //! # The process
 //! Every model lists its demographic events in [`ModelSpec::channels`]
 //! (births, deaths, predation, immigration, emigration) with their rates;
-//! the engine adds, per species, a removal channel (constant harvest from
-//! `Params::harvest` plus the schedule's `harvest_rate`s, −1 at the net
-//! rate while the species is present) and an addition channel (stocking,
-//! +1). The rates sum back to the ODE's right-hand side, so the ODE is the
-//! large-population limit (Kurtz 1970, J. Appl. Probab. 7:49).
+//! the engine adds, per species, a removal channel (harvest: a positive
+//! constant `harvest` plus the schedule's `harvest_rate`s, −1 at their sum
+//! while the species is present) and an addition channel (stocking: a
+//! negative constant `harvest` plus `stocking_rate`s, +1). Harvest and
+//! stocking at the same time are separate streams of events, not their
+//! difference. The rates sum back to the ODE's right-hand side wherever
+//! the species is present, so the ODE is the large-population limit (Kurtz
+//! 1970, J. Appl. Probab. 7:49).
+//!
+//! [`ModelSpec::channels`]: crate::model::ModelSpec::channels
 //!
 //! # Methods ([`Method`])
 //! - `Exact`: Gillespie's direct method (Gillespie 1976, 1977), one event at
@@ -431,6 +436,12 @@ impl Ensemble {
     /// Simulate run `run` (0-based) of this ensemble.
     pub fn simulate(&self, run: u64) -> StochasticRun {
         self.engine.run(self.options.seed, run)
+    }
+
+    /// Run `run` on the summary grid, serializable: an individual run on
+    /// demand.
+    pub fn individual_run(&self, run: u64) -> KeptRun {
+        self.template.on_grid(&self.simulate(run))
     }
 
     /// An empty accumulator for this ensemble, expecting `options.runs`

@@ -343,6 +343,24 @@ impl EnsembleAccumulator {
         self.steps.add(&other.steps);
     }
 
+    /// A run of this ensemble on the summary grid.
+    pub fn on_grid(&self, run: &StochasticRun) -> KeptRun {
+        let l = &self.layout;
+        KeptRun {
+            run: run.run,
+            states: (0..l.n_species)
+                .map(|i| {
+                    l.grid_positions
+                        .iter()
+                        .filter_map(|&k| run.states.get(k).map(|s| s[i]))
+                        .collect()
+                })
+                .collect(),
+            stop: run.stop,
+            extinction_time: run.extinction_time[..l.n_species].to_vec(),
+        }
+    }
+
     /// Values of species `i` at record position `k` over finished runs.
     fn column(&self, k: usize, i: usize) -> Vec<f64> {
         let n = self.layout.n_species;
@@ -500,23 +518,7 @@ impl EnsembleAccumulator {
             }
         });
 
-        let kept_runs = self
-            .kept
-            .iter()
-            .map(|run| KeptRun {
-                run: run.run,
-                states: (0..n)
-                    .map(|i| {
-                        l.grid_positions
-                            .iter()
-                            .filter_map(|&k| run.states.get(k).map(|s| s[i]))
-                            .collect()
-                    })
-                    .collect(),
-                stop: run.stop,
-                extinction_time: run.extinction_time[..n].to_vec(),
-            })
-            .collect();
+        let kept_runs = self.kept.iter().map(|run| self.on_grid(run)).collect();
 
         let simulated = self.simulated();
         EnsembleSummary {
