@@ -127,6 +127,13 @@ fn a_stopped_batch_keeps_its_runs_and_says_partial() {
     });
     assert!(!complete);
     assert_eq!(calls, 12);
+    // An accumulator of another ensemble is refused, not mixed in.
+    let other = problem("exponential", &[("b", 0.1), ("d", 0.1)], &[5.0], 10.0, 1.0);
+    let foreign = Ensemble::new(&other, &o).unwrap();
+    let mut foreign_acc = foreign.accumulator();
+    foreign.run_batch(&mut foreign_acc, 0..3, &mut |_, _| true);
+    assert!(!acc.merge(foreign_acc));
+    acc.add(&foreign.simulate(4));
     let s = acc.summary();
     assert!(s.partial);
     assert_eq!((s.simulated, s.requested), (12, 50));

@@ -444,8 +444,12 @@ impl EstablishmentPlan {
 }
 
 impl EstablishmentTally {
-    /// Add the runs of another tally of the same row.
-    pub fn merge(&mut self, other: EstablishmentTally) {
+    /// Add the runs of another tally of the same row; a tally of another
+    /// row is ignored. Returns whether it was merged.
+    pub fn merge(&mut self, other: EstablishmentTally) -> bool {
+        if other.row != self.row {
+            return false;
+        }
         self.finished += other.finished;
         self.established += other.established;
         self.extinct += other.extinct;
@@ -454,6 +458,7 @@ impl EstablishmentTally {
         self.other_extinct += other.other_extinct;
         self.other_quasi += other.other_quasi;
         self.stops.add(&other.stops);
+        true
     }
 }
 

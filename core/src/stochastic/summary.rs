@@ -325,8 +325,15 @@ impl EnsembleAccumulator {
     }
 
     /// Add the runs of another accumulator of the same ensemble (from
-    /// another thread or batch).
-    pub fn merge(&mut self, other: EnsembleAccumulator) {
+    /// another thread or batch). An accumulator of a different ensemble
+    /// (other species or times) is ignored; returns whether it was merged.
+    pub fn merge(&mut self, other: EnsembleAccumulator) -> bool {
+        if other.layout.n_species != self.layout.n_species
+            || other.layout.record_len != self.layout.record_len
+            || other.layout.times != self.layout.times
+        {
+            return false;
+        }
         self.finished += other.finished;
         self.values.extend(other.values);
         for i in 0..2 {
@@ -341,6 +348,7 @@ impl EnsembleAccumulator {
         self.failures.sort_by_key(|f| f.run);
         self.failures.truncate(MAX_LISTED_FAILURES);
         self.steps.add(&other.steps);
+        true
     }
 
     /// A run of this ensemble on the summary grid.
