@@ -2,6 +2,7 @@
 //! `tussock-core`; every message to the user is one line, and no input makes
 //! it panic.
 
+mod ensemble;
 mod fit;
 mod sweep;
 
@@ -52,6 +53,10 @@ enum Command {
     Fit(fit::FitArgs),
     /// List the models and their parameters.
     Models,
+    /// Run many stochastic simulations: extinction risk, time to extinction and the spread of outcomes.
+    Ensemble(ensemble::EnsembleArgs),
+    /// Chance that released founders establish, by number of founders and releases.
+    Founders(ensemble::FoundersArgs),
 }
 
 #[derive(clap::Args)]
@@ -120,6 +125,8 @@ fn main() -> ExitCode {
         Command::Sweep(args) => sweep::sweep(&args),
         Command::Fit(args) => fit::run(&args),
         Command::Models => models(),
+        Command::Ensemble(args) => ensemble::ensemble(&args),
+        Command::Founders(args) => ensemble::founders(&args),
     };
     match outcome {
         Ok(()) => ExitCode::SUCCESS,

@@ -174,3 +174,26 @@ pub fn rosenzweig_macarthur_fit() -> (Problem, crate::data::CountData, crate::fi
     request.profiles = false;
     (problem, data, request)
 }
+
+/// A Rosenzweig–MacArthur case with about 1,000 individuals over 365 days
+/// for the stochastic ensemble benchmark (invented values): r = 0.2, K =
+/// 1000, a = 0.001, h = 0.5, e = 0.2, m = 0.1 per day; a stable equilibrium
+/// near 667 prey and 89 predators (K is below the Hopf threshold 3333),
+/// started at 800 prey and 100 predators; about 285 events a day.
+pub fn rosenzweig_macarthur_365_days() -> Problem {
+    build(
+        "rosenzweig_macarthur",
+        &[
+            ("r", 0.2),
+            ("K", 1000.0),
+            ("a", 0.001),
+            ("h", 0.5),
+            ("e", 0.2),
+            ("m", 0.1),
+        ],
+        vec![800.0, 100.0],
+        365.0,
+        1.0,
+        1e-8,
+    )
+}

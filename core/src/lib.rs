@@ -20,6 +20,7 @@ pub mod plan;
 pub mod run;
 pub mod scenario;
 pub mod solve;
+pub mod stochastic;
 pub mod sweep;
 
 pub use model::{Group, ModelSpec, ParamSpec, Params, State, Unit};

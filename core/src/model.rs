@@ -16,6 +16,13 @@ pub type Jacobian = nalgebra::Matrix2<f64>;
 /// Largest number of parameters any model has.
 pub const MAX_PARAMS: usize = 12;
 
+/// Most demographic event channels any model has (see [`ModelSpec::channels`]).
+pub const MAX_CHANNELS: usize = 8;
+
+/// Rates of a model's event channels, in the order of [`ModelSpec::channels`];
+/// entries past the model's channels are unused.
+pub type Propensities = [f64; MAX_CHANNELS];
+
 /// Parameter values of one model, in the order of its [`ModelSpec::params`],
 /// the chosen variant (e.g. the functional response) and a constant harvest
 /// (positive) or stocking (negative) rate per species, in individuals per
@@ -192,6 +199,41 @@ pub struct BoundaryCurve {
     pub level: fn(&Params) -> Option<f64>,
 }
 
+/// What kind of demographic event a channel is. Environmental noise in
+/// stochastic runs multiplies the rates of [`ChannelKind::Birth`] channels.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ChannelKind {
+    /// Reproduction (including a predator's conversion of prey into young).
+    Birth,
+    /// Death other than by predation (background or crowding).
+    Death,
+    /// A prey individual eaten.
+    Predation,
+    /// An individual arriving from outside.
+    Immigration,
+    /// An individual leaving.
+    Emigration,
+}
+
+/// One demographic event of a model for stochastic runs: in one event the
+/// state changes by `change` (whole individuals). Its rate (propensity, in
+/// events per time unit) is computed by [`ModelSpec::propensities`].
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Channel {
+    /// Plain name (`prey births`).
+    pub name: &'static str,
+    pub kind: ChannelKind,
+    /// Change of each species in one event, in state order.
+    pub change: [i8; 2],
+}
+
+impl Channel {
+    pub const fn new(name: &'static str, kind: ChannelKind, change: [i8; 2]) -> Channel {
+        Channel { name, kind, change }
+    }
+}
+
 /// Everything Tussock knows about one model.
 #[derive(Debug)]
 pub struct ModelSpec {
@@ -229,6 +271,14 @@ pub struct ModelSpec {
     pub guarantees: fn(&Params) -> Guarantees,
     /// Outcome boundaries known in closed form (outcome-map overlays).
     pub boundaries: &'static [BoundaryCurve],
+    /// Demographic events for stochastic runs (births, deaths, predation,
+    /// immigration, emigration), at most [`MAX_CHANNELS`]. Harvest and
+    /// stocking are added by the stochastic engine, not listed here.
+    pub channels: &'static [Channel],
+    /// Rates of [`ModelSpec::channels`] at state `x`, written in the same
+    /// order. Rates are finite and non-negative at non-negative states, and
+    /// Σ change × rate equals [`ModelSpec::rhs`] (checked by property tests).
+    pub propensities: fn(&Params, &State, &mut Propensities),
 }
 
 impl ParamSpec {

@@ -131,3 +131,85 @@ proptest! {
         }
     }
 }
+
+/// Σ change × rate over a model's event channels, the drift of its
+/// stochastic process.
+fn channel_drift(model: &ModelSpec, p: &Params, x: &State) -> (State, Vec<f64>) {
+    let mut rates = [0.0; tussock_core::model::MAX_CHANNELS];
+    (model.propensities)(p, x, &mut rates);
+    let mut drift = State::zeros();
+    for (channel, rate) in model.channels.iter().zip(rates) {
+        drift[0] += f64::from(channel.change[0]) * rate;
+        drift[1] += f64::from(channel.change[1]) * rate;
+    }
+    (drift, rates[..model.channels.len()].to_vec())
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(500))]
+
+    /// The stochastic process and the ODE are the same model: its mean
+    /// change per unit time, Σ change × propensity, equals the right-hand
+    /// side at every state (the defining property of the event
+    /// description; e.g. Gillespie 1977, J. Phys. Chem. 81:2340, and the
+    /// deterministic limit of Kurtz 1970). Every rate is finite and
+    /// non-negative, and every change moves one species by one individual.
+    #[test]
+    fn event_channels_sum_to_the_right_hand_side(
+        (model, p, x) in model_params_state(),
+        whole in any::<bool>(),
+    ) {
+        let x = if whole { x.map(f64::round) } else { x };
+        let (drift, rates) = channel_drift(model, &p, &x);
+        let f = (model.rhs)(&p, &x);
+        let scale = rates.iter().fold(1e-12, |m, r| m + r.abs());
+        for i in 0..model.n_species() {
+            prop_assert!(
+                (drift[i] - f[i]).abs() <= 1e-12 * scale,
+                "{}: species {i}: Σ change × rate = {} but rhs = {} at {:?}", model.key, drift[i], f[i], x
+            );
+        }
+        prop_assert!(!model.channels.is_empty() && model.channels.len() <= tussock_core::model::MAX_CHANNELS);
+        for (channel, rate) in model.channels.iter().zip(&rates) {
+            prop_assert!(rate.is_finite() && *rate >= 0.0, "{}: {} has rate {rate} at {:?}", model.key, channel.name, x);
+            let moved: i32 = channel.change.iter().map(|c| i32::from(c.abs())).sum();
+            prop_assert_eq!(moved, 1, "{}: {} changes {:?}", model.key, channel.name, channel.change);
+        }
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(200))]
+
+    /// With harvest (positive) or stocking (negative) the stochastic
+    /// process adds a removal or addition channel; at states of one
+    /// individual or more its expected change is still the ODE's derivative
+    /// with harvest (the solver's right-hand side, cross-checked against
+    /// scipy in tests/python).
+    #[test]
+    fn expected_change_with_harvest_is_the_ode_derivative(
+        (model, p, x) in model_params_state(),
+        harvest in (-5.0..5.0f64, -5.0..5.0f64),
+    ) {
+        let n = model.n_species();
+        let mut problem = tussock_core::Scenario::with_defaults(
+            model,
+            model.default_initial.to_vec(),
+            10.0,
+        )
+        .validate()
+        .unwrap();
+        let mut p = p;
+        p.harvest = State::new(harvest.0, if n == 2 { harvest.1 } else { 0.0 });
+        problem.params = p;
+        let x = x.map(|v| v.round().max(1.0));
+        let x = State::new(x[0], if n == 2 { x[1] } else { 0.0 });
+        let drift = tussock_core::stochastic::expected_change(&problem, 0.0, &x);
+        let f = model.derivative(&p, &x);
+        for i in 0..n {
+            let scale = 1.0 + f[i].abs() + x[i] * 10.0;
+            prop_assert!((drift[i] - f[i]).abs() <= 1e-9 * scale,
+                "{}: species {i}: {} vs {} at {:?}", model.key, drift[i], f[i], x);
+        }
+    }
+}

@@ -5,9 +5,16 @@
 //!
 //! dN1/dt = r1 N1 (1 − (N1 + α12 N2)/K1)
 //! dN2/dt = r2 N2 (1 − (N2 + α21 N1)/K2)
+//!
+//! Demographic events for stochastic runs (each changes one species by one
+//! individual; the rates sum back to the equations above):
+//! - births of species i: r_i·N_i (+1);
+//! - crowding deaths of species i: r_i·N_i·(N_i + α_ij·N_j)/K_i (−1), so
+//!   crowding by either species acts through deaths.
 
 use crate::model::{
-    BoundaryCurve, Group, Guarantees, Jacobian, ModelSpec, Outcome, ParamSpec, Params, State, Unit,
+    BoundaryCurve, Channel, ChannelKind, Group, Guarantees, Jacobian, ModelSpec, Outcome,
+    ParamSpec, Params, Propensities, State, Unit,
 };
 
 pub const R1: usize = 0;
@@ -52,6 +59,13 @@ pub static SPEC: ModelSpec = ModelSpec {
             level: |p| Some(p[K2] - p[ALPHA21] * p[K1]),
         },
     ],
+    channels: &[
+        Channel::new("births of species 1", ChannelKind::Birth, [1, 0]),
+        Channel::new("deaths of species 1", ChannelKind::Death, [-1, 0]),
+        Channel::new("births of species 2", ChannelKind::Birth, [0, 1]),
+        Channel::new("deaths of species 2", ChannelKind::Death, [0, -1]),
+    ],
+    propensities,
 };
 
 /// Without harvest the populations stay below their carrying capacities
@@ -76,6 +90,20 @@ fn rhs(p: &Params, x: &State) -> State {
         p[R1] * n1 * (1.0 - (n1 + p[ALPHA12] * n2) / p[K1]),
         p[R2] * n2 * (1.0 - (n2 + p[ALPHA21] * n1) / p[K2]),
     )
+}
+
+fn propensities(p: &Params, x: &State, out: &mut Propensities) {
+    let (n1, n2) = (x[0], x[1]);
+    *out = [
+        p[R1] * n1,
+        p[R1] * n1 * (n1 + p[ALPHA12] * n2) / p[K1],
+        p[R2] * n2,
+        p[R2] * n2 * (n2 + p[ALPHA21] * n1) / p[K2],
+        0.0,
+        0.0,
+        0.0,
+        0.0,
+    ];
 }
 
 fn jacobian(p: &Params, x: &State) -> Jacobian {

@@ -4,8 +4,16 @@
 //! State: N.
 //!
 //! dN/dt = (b − d − emigration)·N + immigration
+//!
+//! Demographic events for stochastic runs (the linear
+//! birth–death–immigration–emigration process; Kendall 1948; Bailey 1964,
+//! The Elements of Stochastic Processes, ch. 8): births b·N (+1), deaths
+//! d·N (−1), immigration at the constant rate `immigration` (+1),
+//! emigration emigration·N (−1).
 
-use crate::model::{Group, Guarantees, Jacobian, ModelSpec, ParamSpec, Params, State, Unit};
+use crate::model::{
+    Group, Guarantees, Jacobian, ModelSpec, ParamSpec, Params, Propensities, State, Unit,
+};
 
 pub const B: usize = 0;
 pub const D: usize = 1;
@@ -65,6 +73,8 @@ pub static SPEC: ModelSpec = ModelSpec {
     check: super::no_check,
     guarantees,
     boundaries: &[],
+    channels: &super::ONE_POPULATION_CHANNELS,
+    propensities,
 };
 
 /// One species: no cycles. Bounded when the net rate is negative; the one
@@ -85,6 +95,20 @@ fn net_rate(p: &Params) -> f64 {
 
 fn rhs(p: &Params, x: &State) -> State {
     State::new(net_rate(p) * x[0] + p[IMMIGRATION], 0.0)
+}
+
+fn propensities(p: &Params, x: &State, out: &mut Propensities) {
+    let n = x[0];
+    *out = [
+        p[B] * n,
+        p[D] * n,
+        p[IMMIGRATION],
+        p[EMIGRATION] * n,
+        0.0,
+        0.0,
+        0.0,
+        0.0,
+    ];
 }
 
 fn jacobian(p: &Params, _x: &State) -> Jacobian {

@@ -8,9 +8,29 @@
 //! φ(N) = N/A − 1 when an Allee threshold A > 0 is given (the strong Allee
 //! effect of Courchamp, Berec & Gascoigne 2008, Allee Effects in Ecology and
 //! Conservation, eq. 2.1 form), else 1.
+//!
+//! Demographic events for stochastic runs: births (+1), deaths (−1),
+//! immigration at the constant rate `immigration` (+1) and emigration
+//! emigration·N (−1). With r = b − d, the logistic part splits into
+//!
+//! - births B₀ = b·N and deaths D₀ = d·N + r·N²/K when r ≥ 0 (crowding
+//!   raises deaths);
+//! - births B₀ = b·N + |r|·N²/K and deaths D₀ = d·N when r < 0 (the N²
+//!   term of a declining logistic is positive, so it goes to births and no
+//!   rate is ever negative).
+//!
+//! Either way B₀ − D₀ = r·N·(1 − N/K). With an Allee threshold A the growth
+//! is (B₀ − D₀)·(N/A − 1) = [B₀·N/A + D₀] − [D₀·N/A + B₀], so
+//! births = B₀·N/A + D₀ and deaths = D₀·N/A + B₀: both non-negative, and
+//! the turnover B₀ + D₀ of the plain logistic is scaled by (1 + N/A).
+//! Far below A the per-capita birth and death rates tend to d and b
+//! (swapped), so the population declines at rate r; at N = A births equal
+//! deaths.
 
 use super::exponential::{BIRTH, DEATH, EMIGRATION_SPEC, IMMIGRATION_SPEC};
-use crate::model::{Group, Guarantees, Jacobian, ModelSpec, ParamSpec, Params, State, Unit};
+use crate::model::{
+    Group, Guarantees, Jacobian, ModelSpec, ParamSpec, Params, Propensities, State, Unit,
+};
 
 pub const B: usize = 0;
 pub const D: usize = 1;
@@ -43,6 +63,8 @@ pub static SPEC: ModelSpec = ModelSpec {
     check,
     guarantees,
     boundaries: &[],
+    channels: &super::ONE_POPULATION_CHANNELS,
+    propensities,
 };
 
 /// One species: no cycles, and bounded by its carrying capacity plus what
@@ -92,6 +114,37 @@ fn growth_and_slope(p: &Params, n: f64) -> (f64, f64) {
 fn rhs(p: &Params, x: &State) -> State {
     let (g, _) = growth_and_slope(p, x[0]);
     State::new(g - p[EMIGRATION] * x[0] + p[IMMIGRATION], 0.0)
+}
+
+/// Births and deaths of the logistic part, split as in the module notes.
+fn births_and_deaths(p: &Params, n: f64) -> (f64, f64) {
+    let crowding = (p[B] - p[D]) * n * n / p[K];
+    let (b0, d0) = if crowding >= 0.0 {
+        (p[B] * n, p[D] * n + crowding)
+    } else {
+        (p[B] * n - crowding, p[D] * n)
+    };
+    if p[ALLEE] > 0.0 {
+        let phi = n / p[ALLEE];
+        (b0 * phi + d0, d0 * phi + b0)
+    } else {
+        (b0, d0)
+    }
+}
+
+fn propensities(p: &Params, x: &State, out: &mut Propensities) {
+    let n = x[0];
+    let (births, deaths) = births_and_deaths(p, n);
+    *out = [
+        births,
+        deaths,
+        p[IMMIGRATION],
+        p[EMIGRATION] * n,
+        0.0,
+        0.0,
+        0.0,
+        0.0,
+    ];
 }
 
 fn jacobian(p: &Params, x: &State) -> Jacobian {

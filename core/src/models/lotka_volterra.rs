@@ -7,9 +7,19 @@
 //! dP/dt = e a N P − m P
 //!
 //! Leaving `K` out (infinite) gives the classical neutrally stable cycles.
+//!
+//! Demographic events for stochastic runs (each changes one species by one
+//! individual; the rates sum back to the equations above):
+//! - prey births r·N (+1 prey);
+//! - prey crowding deaths r·N²/K (−1 prey; none without K);
+//! - predation a·N·P (−1 prey);
+//! - predator births e·a·N·P (+1 predator), a separate event from the
+//!   predation that feeds it, so any efficiency e is allowed;
+//! - predator deaths m·P (−1 predator).
 
 use crate::model::{
-    BoundaryCurve, Group, Guarantees, Jacobian, ModelSpec, ParamSpec, Params, State, Unit,
+    BoundaryCurve, Group, Guarantees, Jacobian, ModelSpec, ParamSpec, Params, Propensities, State,
+    Unit,
 };
 
 pub const R: usize = 0;
@@ -45,6 +55,8 @@ pub static SPEC: ModelSpec = ModelSpec {
         label: "K = m/(e·a): above it the predator can persist",
         level: |p| (p[K].is_finite() && p[E] * p[A] > 0.0).then(|| p[K] - p[M] / (p[E] * p[A])),
     }],
+    channels: &super::PREDATOR_PREY_CHANNELS,
+    propensities,
 };
 
 /// With a finite K and no harvest the model is dissipative, and
@@ -94,4 +106,19 @@ fn equilibria(p: &Params) -> Vec<State> {
         out.push(State::new(n, p[R] / p[A] * (1.0 - n / p[K])));
     }
     out
+}
+
+fn propensities(p: &Params, x: &State, out: &mut Propensities) {
+    let (n, pred) = (x[0], x[1]);
+    let predation = p[A] * n * pred;
+    *out = [
+        p[R] * n,
+        p[R] * n * n / p[K],
+        predation,
+        p[E] * predation,
+        p[M] * pred,
+        0.0,
+        0.0,
+        0.0,
+    ];
 }

@@ -1,7 +1,7 @@
 //! The model catalogue. Adding a model is one file here plus one line in
 //! [`MODELS`].
 
-use crate::model::{ModelSpec, Outcome, Params};
+use crate::model::{Channel, ChannelKind, ModelSpec, Outcome, Params};
 
 pub mod competition;
 pub mod exponential;
@@ -38,3 +38,23 @@ pub(crate) fn unharvested(p: &Params) -> bool {
 pub(crate) fn no_check(_: &Params) -> Result<(), (&'static str, String)> {
     Ok(())
 }
+
+/// The five events of the predator–prey models, in the order their
+/// `propensities` fill them: prey births, prey crowding deaths, predation,
+/// predator births, predator deaths.
+pub(crate) static PREDATOR_PREY_CHANNELS: [Channel; 5] = [
+    Channel::new("prey births", ChannelKind::Birth, [1, 0]),
+    Channel::new("prey crowding deaths", ChannelKind::Death, [-1, 0]),
+    Channel::new("prey eaten", ChannelKind::Predation, [-1, 0]),
+    Channel::new("predator births", ChannelKind::Birth, [0, 1]),
+    Channel::new("predator deaths", ChannelKind::Death, [0, -1]),
+];
+
+/// The four events of the one-population models, in the order their
+/// `propensities` fill them: births, deaths, immigration, emigration.
+pub(crate) static ONE_POPULATION_CHANNELS: [Channel; 4] = [
+    Channel::new("births", ChannelKind::Birth, [1, 0]),
+    Channel::new("deaths", ChannelKind::Death, [-1, 0]),
+    Channel::new("immigration", ChannelKind::Immigration, [1, 0]),
+    Channel::new("emigration", ChannelKind::Emigration, [-1, 0]),
+];

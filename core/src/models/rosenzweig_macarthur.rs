@@ -13,10 +13,19 @@
 //! - `holling_iii`: f = a N² / (1 + a h N²) (type III, sigmoid)
 //! - `beddington_deangelis`: f = a N / (1 + a h N + c P) (Beddington 1975;
 //!   DeAngelis et al. 1975; predator interference c)
+//!
+//! Demographic events for stochastic runs (each changes one species by one
+//! individual; the rates sum back to the equations above):
+//! - prey births r·N (+1 prey);
+//! - prey crowding deaths r·N²/K (−1 prey);
+//! - predation f(N, P)·P (−1 prey);
+//! - predator births e·f(N, P)·P (+1 predator), separate from the predation
+//!   that feeds it;
+//! - predator deaths m·P (−1 predator).
 
 use crate::model::{
     BoundaryCurve, ChoiceSpec, Group, Guarantees, Jacobian, ModelSpec, Outcome, ParamSpec, Params,
-    State, Unit,
+    Propensities, State, Unit,
 };
 
 pub const R: usize = 0;
@@ -83,6 +92,8 @@ pub static SPEC: ModelSpec = ModelSpec {
             level: |p| hopf_threshold(p).map(|k_h| p[K] - k_h),
         },
     ],
+    channels: &super::PREDATOR_PREY_CHANNELS,
+    propensities,
 };
 
 /// Without harvest the model is dissipative (prey below K eventually, and
@@ -133,6 +144,22 @@ fn rhs(p: &Params, x: &State) -> State {
         p[R] * n * (1.0 - n / p[K]) - f * pred,
         p[E] * f * pred - p[M] * pred,
     )
+}
+
+fn propensities(p: &Params, x: &State, out: &mut Propensities) {
+    let (n, pred) = (x[0], x[1]);
+    let (f, _, _) = response(p, n, pred);
+    let predation = f * pred;
+    *out = [
+        p[R] * n,
+        p[R] * n * n / p[K],
+        predation,
+        p[E] * predation,
+        p[M] * pred,
+        0.0,
+        0.0,
+        0.0,
+    ];
 }
 
 fn jacobian(p: &Params, x: &State) -> Jacobian {
