@@ -17,7 +17,7 @@ use crate::scenario::Problem;
 use crate::solve::{solve, Trajectory};
 
 /// What the release must achieve.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum Goal {
     /// The pest (the scenario's `thresholds.pest`) is below its economic
@@ -35,7 +35,7 @@ pub enum Goal {
 }
 
 /// How a release size is counted.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum SizeUnit {
     /// Individuals per release (per plant, per m², per site: the scenario's
@@ -46,7 +46,7 @@ pub enum SizeUnit {
     RatioToOther,
 }
 
-#[derive(Clone, Debug, PartialEq)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct PlanRequest {
     pub goal: Goal,
     /// The species released.
@@ -65,7 +65,7 @@ pub struct PlanRequest {
 }
 
 /// One point of a response curve.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct Evaluation {
     /// Size per release.
     pub size: f64,
@@ -76,7 +76,7 @@ pub struct Evaluation {
 }
 
 /// The answer for one release time and number of releases.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct PlanRow {
     pub time: f64,
     pub count: u32,
@@ -94,9 +94,12 @@ pub struct PlanRow {
     pub curve: Vec<Evaluation>,
 }
 
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct Plan {
     pub rows: Vec<PlanRow>,
+    /// True when the search was stopped before every row was done.
+    #[serde(default)]
+    pub partial: bool,
     /// Index of the row with the smallest total release.
     pub best: Option<usize>,
     pub unit: SizeUnit,
@@ -307,47 +310,32 @@ fn curve_sizes(max: f64, points: usize) -> Vec<f64> {
 /// Search every (time, count) of the request and report the smallest
 /// release meeting the goal for each, and the best overall.
 pub fn plan(problem: &Problem, request: &PlanRequest) -> Result<Plan, PlanError> {
+    plan_with_progress(problem, request, &mut |_, _, _| true)
+}
+
+/// [`plan`], calling `progress(done, total, row)` after each row; when it
+/// returns false the search stops and the rows so far are returned, marked
+/// partial.
+pub fn plan_with_progress(
+    problem: &Problem,
+    request: &PlanRequest,
+    progress: &mut dyn FnMut(usize, usize, &PlanRow) -> bool,
+) -> Result<Plan, PlanError> {
     request.check(problem)?;
     let sizes = curve_sizes(request.max_size, request.curve_points);
+    let total = request.times.len() * request.counts.len();
     let mut rows = Vec::new();
-    for &time in &request.times {
+    let mut partial = false;
+    'search: for &time in &request.times {
         for &count in &request.counts {
-            let curve: Vec<Evaluation> = sizes
-                .iter()
-                .map(|&s| evaluate(problem, request, time, count, s))
-                .collect();
-            let first = curve.iter().position(|e| e.met);
-            let smallest = first.map(|j| {
-                if j <= 1 {
-                    return curve[j].size;
+            let row = plan_row(problem, request, &sizes, time, count);
+            rows.push(row);
+            if let Some(row) = rows.last() {
+                if !progress(rows.len(), total, row) && rows.len() < total {
+                    partial = true;
+                    break 'search;
                 }
-                // Bisection between the last failing and first meeting size.
-                let (mut lo, mut hi) = (curve[j - 1].size, curve[j].size);
-                for _ in 0..50 {
-                    if hi - lo <= 1e-6 * hi {
-                        break;
-                    }
-                    let mid = 0.5 * (lo + hi);
-                    if evaluate(problem, request, time, count, mid).met {
-                        hi = mid;
-                    } else {
-                        lo = mid;
-                    }
-                }
-                hi
-            });
-            let non_monotone = first.is_some_and(|j| curve[j..].iter().any(|e| !e.met));
-            let at_lower_bound = first == Some(1);
-            rows.push(PlanRow {
-                time,
-                count,
-                every: request.every,
-                smallest,
-                total: smallest.map(|s| s * f64::from(count)),
-                non_monotone,
-                at_lower_bound,
-                curve,
-            });
+            }
         }
     }
     let best = rows
@@ -358,7 +346,55 @@ pub fn plan(problem: &Problem, request: &PlanRequest) -> Result<Plan, PlanError>
         .map(|(i, _)| i);
     Ok(Plan {
         rows,
+        partial,
         best,
         unit: request.unit,
     })
+}
+
+/// The response curve and smallest release for one first release time and
+/// number of releases.
+fn plan_row(
+    problem: &Problem,
+    request: &PlanRequest,
+    sizes: &[f64],
+    time: f64,
+    count: u32,
+) -> PlanRow {
+    let curve: Vec<Evaluation> = sizes
+        .iter()
+        .map(|&s| evaluate(problem, request, time, count, s))
+        .collect();
+    let first = curve.iter().position(|e| e.met);
+    let smallest = first.map(|j| {
+        if j <= 1 {
+            return curve[j].size;
+        }
+        // Bisection between the last failing and first meeting size.
+        let (mut lo, mut hi) = (curve[j - 1].size, curve[j].size);
+        for _ in 0..50 {
+            if hi - lo <= 1e-6 * hi {
+                break;
+            }
+            let mid = 0.5 * (lo + hi);
+            if evaluate(problem, request, time, count, mid).met {
+                hi = mid;
+            } else {
+                lo = mid;
+            }
+        }
+        hi
+    });
+    let non_monotone = first.is_some_and(|j| curve[j..].iter().any(|e| !e.met));
+    let at_lower_bound = first == Some(1);
+    PlanRow {
+        time,
+        count,
+        every: request.every,
+        smallest,
+        total: smallest.map(|s| s * f64::from(count)),
+        non_monotone,
+        at_lower_bound,
+        curve,
+    }
 }

@@ -9,13 +9,36 @@ use std::collections::BTreeMap;
 
 use serde::{Deserialize, Serialize};
 
+use crate::data::CountData;
 use crate::events::{EventSpec, Schedule};
+use crate::fit::{FitRequest, FitResult};
 use crate::model::{ModelSpec, Params, State};
 use crate::models;
 use crate::solve::SolverOptions;
 
-/// Version of the scenario format this build writes and reads.
-pub const FORMAT_VERSION: u32 = 1;
+/// Version of the scenario format this build writes. Older files are
+/// brought up to it by [`MIGRATIONS`] when read.
+///
+/// - 1: model, parameters, initial densities, horizon, events, thresholds.
+/// - 2: adds imported counts (`data`), the last fit (`fit`), named
+///   `variants` and the settings of the planner, sweeps and stochastic runs
+///   (`studies`).
+pub const FORMAT_VERSION: u32 = 2;
+
+/// One step per older version: `MIGRATIONS[v - 1]` turns a format-`v` file
+/// (as JSON) into a format-`v + 1` one.
+pub const MIGRATIONS: &[fn(&mut serde_json::Value)] = &[migrate_1_to_2];
+
+/// Format 2 only added optional fields; a format-1 file is a valid format-2
+/// file once its version says so.
+fn migrate_1_to_2(value: &mut serde_json::Value) {
+    if let Some(map) = value.as_object_mut() {
+        map.insert("format".to_string(), serde_json::Value::from(2));
+    }
+}
+
+/// Most variants a scenario keeps for comparison.
+pub const MAX_VARIANTS: usize = 4;
 
 /// A scenario as written in a file. Field names are part of the file format.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
@@ -63,6 +86,57 @@ pub struct Scenario {
     /// Absolute tolerance of the integrator (individuals).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub atol: Option<f64>,
+    /// Census counts imported for fitting (format 2).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub data: Option<CountData>,
+    /// The last fit of the model to `data`: what was asked and what was
+    /// found (format 2).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub fit: Option<SavedFit>,
+    /// Named alternatives kept for side-by-side comparison, at most
+    /// [`MAX_VARIANTS`] (format 2).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub variants: Vec<Variant>,
+    /// Settings of the planner, sweeps, fit and stochastic runs last used
+    /// (format 2).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub studies: Option<Studies>,
+}
+
+/// A fit kept with its scenario.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SavedFit {
+    pub request: FitRequest,
+    pub result: FitResult,
+}
+
+/// A named alternative of a scenario ("three releases at 1:30"). Its
+/// scenario has no variants, data or studies of its own.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Variant {
+    pub name: String,
+    pub scenario: Box<Scenario>,
+}
+
+/// What the user last asked of the planner, the sweeps, the fit and the
+/// stochastic runs, so a reopened file asks the same again.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Studies {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub plan: Option<crate::plan::PlanRequest>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub line: Option<crate::sweep::line::LineRequest>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub map: Option<crate::sweep::map::MapRequest>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub fit: Option<FitRequest>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ensemble: Option<crate::stochastic::EnsembleOptions>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub founders: Option<crate::stochastic::EstablishmentRequest>,
 }
 
 /// Thresholds as written in a scenario file.
@@ -216,11 +290,35 @@ pub const MAX_OUTPUT_POINTS: f64 = 1e6;
 pub const MAX_DENSITY: f64 = 1e12;
 
 impl Scenario {
-    /// Parse a scenario from JSON text.
+    /// Parse a scenario from JSON text, bringing an older format up to
+    /// date. A file from a newer format is refused with a message saying so.
     pub fn from_json(text: &str) -> Result<Scenario, ScenarioError> {
-        serde_json::from_str(text).map_err(|e| ScenarioError::Syntax {
+        let syntax = |e: serde_json::Error| ScenarioError::Syntax {
             message: e.to_string(),
-        })
+        };
+        let mut value: serde_json::Value = serde_json::from_str(text).map_err(syntax)?;
+        let found = match value.get("format") {
+            None | Some(serde_json::Value::Null) => FORMAT_VERSION,
+            Some(v) => match v.as_u64().and_then(|v| u32::try_from(v).ok()) {
+                Some(v) if v >= 1 => v,
+                _ => {
+                    return Err(invalid(
+                        "format",
+                        format!("must be a whole number from 1 to {FORMAT_VERSION}, got {v}"),
+                    ))
+                }
+            },
+        };
+        if found > FORMAT_VERSION {
+            return Err(ScenarioError::NewerFormat {
+                found,
+                supported: FORMAT_VERSION,
+            });
+        }
+        for step in &MIGRATIONS[(found - 1) as usize..] {
+            step(&mut value);
+        }
+        serde_json::from_value(value).map_err(syntax)
     }
 
     pub fn to_json_pretty(&self) -> String {
@@ -251,6 +349,10 @@ impl Scenario {
             time_unit: None,
             rtol: None,
             atol: None,
+            data: None,
+            fit: None,
+            variants: Vec::new(),
+            studies: None,
         }
     }
 
@@ -382,6 +484,11 @@ impl Scenario {
 
         let schedule = Schedule::from_specs(&self.events, n, &species, self.t_end)?;
         let thresholds = Thresholds::from_spec(self.thresholds.as_ref(), n)?;
+        if let Some(data) = &self.data {
+            data.validate(n)
+                .map_err(|e| invalid(e.path, e.reason))?;
+        }
+        self.validate_variants()?;
 
         Ok(Problem {
             model,
@@ -399,6 +506,39 @@ impl Scenario {
             schedule,
             thresholds,
         })
+    }
+}
+
+impl Scenario {
+    fn validate_variants(&self) -> Result<(), ScenarioError> {
+        if self.variants.len() > MAX_VARIANTS {
+            return Err(invalid(
+                "variants",
+                format!("at most {MAX_VARIANTS} variants, got {}", self.variants.len()),
+            ));
+        }
+        for (i, v) in self.variants.iter().enumerate() {
+            let path = format!("variants[{i}]");
+            if v.name.trim().is_empty() || v.name.chars().count() > 80 {
+                return Err(invalid(format!("{path}.name"), "must be 1 to 80 characters"));
+            }
+            let inner = &v.scenario;
+            if !inner.variants.is_empty()
+                || inner.data.is_some()
+                || inner.fit.is_some()
+                || inner.studies.is_some()
+            {
+                return Err(invalid(
+                    format!("{path}.scenario"),
+                    "a variant holds only a model setup (no variants, data, fit or studies of its own)",
+                ));
+            }
+            inner.validate().map_err(|e| match e {
+                ScenarioError::Invalid { path: p, reason } => invalid(format!("{path}.scenario.{p}"), reason),
+                other => invalid(format!("{path}.scenario"), other.to_string()),
+            })?;
+        }
+        Ok(())
     }
 }
 

@@ -22,7 +22,7 @@ const HIGHEST_ORDER: f64 = 3.0;
 const MAX_HALVINGS: u32 = 40;
 
 /// Why a run stopped.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, serde::Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum RunStop {
     /// Reached the horizon.
@@ -59,7 +59,7 @@ impl RunStop {
 }
 
 /// Work done by a run.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize)]
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize, serde::Deserialize)]
 pub struct StepCounts {
     /// Single events simulated exactly (Gillespie's direct method).
     pub exact_events: u64,

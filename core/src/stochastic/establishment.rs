@@ -72,7 +72,7 @@ impl Default for EstablishmentRequest {
 }
 
 /// The other species of a two-species model at the horizon.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct OtherSpeciesOutcome {
     pub species: String,
     /// 5%, median and 95% of its population at the horizon.
@@ -88,7 +88,7 @@ pub struct OtherSpeciesOutcome {
 }
 
 /// One row of the table: a number of founders in a number of releases.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct EstablishmentRow {
     pub founders: u64,
     pub releases: u32,
@@ -114,7 +114,7 @@ pub struct EstablishmentRow {
 }
 
 /// The whole comparison.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct EstablishmentTable {
     pub species: String,
     pub level: f64,

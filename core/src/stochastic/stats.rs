@@ -8,7 +8,7 @@ use serde::Serialize;
 pub const Z_95: f64 = 1.959_963_984_540_054;
 
 /// A proportion with its 95% Wilson score interval.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct Proportion {
     /// Runs where it happened.
     pub count: u64,

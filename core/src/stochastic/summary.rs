@@ -71,7 +71,7 @@ pub struct EnsembleAccumulator {
 }
 
 /// How many runs ended each way.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize)]
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize, serde::Deserialize)]
 pub struct StopCounts {
     pub finished: u64,
     pub too_many_steps: u64,
@@ -104,14 +104,14 @@ impl StopCounts {
 }
 
 /// A run left out of the statistics.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct RunFailure {
     pub run: u64,
     pub stop: RunStop,
 }
 
 /// Probability of an event for one species, with its 95% Wilson interval.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct SpeciesProbability {
     pub species: String,
     pub probability: Option<f64>,
@@ -122,7 +122,7 @@ pub struct SpeciesProbability {
 
 /// Probability of quasi-extinction by the horizon for a species with a
 /// level.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct QuasiExtinction {
     pub species: String,
     pub level: f64,
@@ -133,7 +133,7 @@ pub struct QuasiExtinction {
 }
 
 /// A probability at every summary time, with its interval, as columns.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct ProbabilityCurve {
     pub species: String,
     /// For quasi-extinction: the level; for the pest: its threshold.
@@ -146,7 +146,7 @@ pub struct ProbabilityCurve {
 
 /// The time to extinction of one species, over the runs where it went
 /// extinct by the horizon.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct TimeToExtinctionSpecies {
     pub species: String,
     pub extinct_runs: u64,
@@ -157,7 +157,7 @@ pub struct TimeToExtinctionSpecies {
     pub histogram: Vec<u64>,
 }
 
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct TimeToExtinction {
     pub quantile_levels: Vec<f64>,
     /// Bin edges over [0, horizon]; a time equal to an inner edge falls in
@@ -167,7 +167,7 @@ pub struct TimeToExtinction {
 }
 
 /// One species' fan chart: quantiles at every summary time.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct FanSeries {
     pub species: String,
     pub p05: Vec<f64>,
@@ -179,7 +179,7 @@ pub struct FanSeries {
 }
 
 /// The probability that the pest is under its economic threshold at day D.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct PestBelow {
     pub species: String,
     pub threshold: f64,
@@ -191,7 +191,7 @@ pub struct PestBelow {
 }
 
 /// The ODE trajectory on the summary grid (shorter if the solve stopped).
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct DeterministicSeries {
     /// Per species, the densities at the summary times.
     pub states: Vec<Vec<f64>>,
@@ -199,7 +199,7 @@ pub struct DeterministicSeries {
 }
 
 /// One individual run on the summary grid.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct KeptRun {
     pub run: u64,
     /// Per species, populations at the summary times reached.
@@ -210,7 +210,7 @@ pub struct KeptRun {
 
 /// Everything an ensemble tells, at any moment. Probabilities are over the
 /// finished runs (`runs`); they are None (null) while there are none.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, serde::Deserialize)]
 pub struct EnsembleSummary {
     /// Finished runs in the statistics.
     pub runs: u64,
