@@ -14,8 +14,7 @@ use tussock_core::data::CountData;
 use tussock_core::fit::{self, FitRequest, FitResult};
 use tussock_core::plan::{self, Plan, PlanRequest};
 use tussock_core::stochastic::{
-    EnsembleOptions, EnsembleSummary, EstablishmentPlan, EstablishmentRequest,
-    EstablishmentTable,
+    EnsembleOptions, EnsembleSummary, EstablishmentPlan, EstablishmentRequest, EstablishmentTable,
 };
 use tussock_core::sweep::line::{LineRequest, LineSweep};
 use tussock_core::sweep::map::{MapRequest, OutcomeMap};
@@ -32,7 +31,10 @@ pub enum Task {
     /// Two parameters swept: an outcome map.
     Map { request: MapRequest },
     /// The model fitted to counts.
-    Fit { data: CountData, request: FitRequest },
+    Fit {
+        data: CountData,
+        request: FitRequest,
+    },
     /// Stochastic runs: extinction risk and fan chart.
     Ensemble { options: EnsembleOptions },
     /// Establishment probability against founder numbers.
@@ -214,15 +216,17 @@ pub fn run(job: &Job, now: &dyn Fn() -> f64, send: &mut dyn FnMut(Update) -> boo
         is_due
     };
     let result: Result<Outcome, String> = match &job.task {
-        Task::Plan { request } => plan::plan_with_progress(&problem, request, &mut |done, total, _| {
-            send(Update::Progress {
-                id,
-                done: done as u64,
-                total: total as u64,
+        Task::Plan { request } => {
+            plan::plan_with_progress(&problem, request, &mut |done, total, _| {
+                send(Update::Progress {
+                    id,
+                    done: done as u64,
+                    total: total as u64,
+                })
             })
-        })
-        .map(Outcome::Plan)
-        .map_err(|e| e.to_string()),
+            .map(Outcome::Plan)
+            .map_err(|e| e.to_string())
+        }
         Task::Line { request } => match request.plan(&problem) {
             Err(e) => Err(e.to_string()),
             Ok(line) => {
@@ -232,7 +236,11 @@ pub fn run(job: &Job, now: &dyn Fn() -> f64, send: &mut dyn FnMut(Update) -> boo
                 for index in 0..total {
                     points.push(line.point(index));
                     let (done, all) = (index as u64 + 1, total as u64);
-                    let mut go = send(Update::Progress { id, done, total: all });
+                    let mut go = send(Update::Progress {
+                        id,
+                        done,
+                        total: all,
+                    });
                     if go && due(done, all) && done < all {
                         let mut partial = line.finish(points.clone(), true);
                         partial.bifurcations.clear();

@@ -12,11 +12,11 @@ pub mod components;
 pub mod examples;
 pub mod figures;
 pub mod jobs;
-pub mod worker;
-pub mod workers;
 pub mod panic;
 pub mod share;
 pub mod state;
+pub mod worker;
+pub mod workers;
 
 /// Start the app in the page's `<main id="app">` element.
 pub fn start() {

@@ -8,10 +8,14 @@
 use std::collections::BTreeMap;
 use std::rc::Rc;
 
+use tussock_core::data::CountData;
 use tussock_core::events::EventSpec;
 pub use tussock_core::run::Run;
 use tussock_core::scenario::ThresholdSpec;
+use tussock_core::scenario::{SavedFit, Studies, Variant, MAX_VARIANTS};
 use tussock_core::{models, Problem, Scenario, State};
+
+use crate::jobs::{Outcome, Task, TaskKind, Update};
 
 use crate::examples::EXAMPLES;
 
@@ -98,6 +102,184 @@ pub enum Action {
     Notify {
         message: String,
     },
+    /// Show another part of the page.
+    SetView {
+        view: View,
+    },
+    /// A job was sent to a worker at `now` (milliseconds).
+    JobStarted {
+        id: u64,
+        task: Task,
+        now: f64,
+    },
+    /// A worker reported on a job.
+    JobUpdate {
+        kind: TaskKind,
+        update: Update,
+        now: f64,
+    },
+    /// The user stopped a job: keep what came back, marked partial.
+    JobCancelled {
+        kind: TaskKind,
+    },
+    /// Set several parameters at once (a point clicked on a sweep) and
+    /// show the workbench.
+    SetParams {
+        values: Vec<(String, f64)>,
+    },
+    /// Put the last fit's estimates into the scenario.
+    UseFitted,
+    /// Keep imported counts with the scenario (None clears them).
+    SetData {
+        data: Option<CountData>,
+        source: String,
+    },
+    /// Keep the current setup as a named variant.
+    SaveVariant {
+        name: String,
+    },
+    DeleteVariant {
+        index: usize,
+    },
+    /// Make a variant's setup the current one (the variants stay).
+    LoadVariant {
+        index: usize,
+    },
+}
+
+/// The parts of the page, one question each.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum View {
+    /// Simulate one scenario: time series, phase plane, analysis.
+    #[default]
+    Workbench,
+    /// The smallest release that meets a goal.
+    Planner,
+    /// Named alternatives side by side.
+    Variants,
+    /// Parameters swept: bifurcations and outcome maps.
+    Sweep,
+    /// The model fitted to census counts.
+    Fit,
+    /// Stochastic runs: extinction and establishment risk.
+    Chance,
+}
+
+impl View {
+    pub const ALL: [View; 6] = [
+        View::Workbench,
+        View::Planner,
+        View::Variants,
+        View::Sweep,
+        View::Fit,
+        View::Chance,
+    ];
+
+    pub fn label(self) -> &'static str {
+        match self {
+            View::Workbench => "Simulate",
+            View::Planner => "Plan a release",
+            View::Variants => "Compare variants",
+            View::Sweep => "Sweep parameters",
+            View::Fit => "Fit to counts",
+            View::Chance => "Chance and risk",
+        }
+    }
+
+    /// Stable id for the page (tests, anchors).
+    pub fn key(self) -> &'static str {
+        match self {
+            View::Workbench => "simulate",
+            View::Planner => "plan",
+            View::Variants => "variants",
+            View::Sweep => "sweep",
+            View::Fit => "fit",
+            View::Chance => "chance",
+        }
+    }
+}
+
+/// Where a job stands.
+#[derive(Clone, Debug, PartialEq)]
+pub enum JobStatus {
+    Running,
+    Finished,
+    /// Stopped by the user; the outcome (if any) is partial.
+    Cancelled,
+    Failed(String),
+}
+
+/// A job sent to a worker and what has come back.
+#[derive(Clone, Debug)]
+pub struct JobSlot {
+    pub id: u64,
+    pub task: Task,
+    /// The scenario the job ran on (results go stale when it changes).
+    pub scenario: Scenario,
+    pub started_ms: f64,
+    pub updated_ms: f64,
+    pub done: u64,
+    pub total: u64,
+    pub status: JobStatus,
+    /// The latest result, partial while running.
+    pub outcome: Option<Rc<Outcome>>,
+}
+
+/// Outcomes are shared and immutable: compared by identity.
+impl PartialEq for JobSlot {
+    fn eq(&self, other: &Self) -> bool {
+        self.id == other.id
+            && self.done == other.done
+            && self.total == other.total
+            && self.status == other.status
+            && match (&self.outcome, &other.outcome) {
+                (Some(a), Some(b)) => Rc::ptr_eq(a, b),
+                (None, None) => true,
+                _ => false,
+            }
+    }
+}
+
+impl JobSlot {
+    pub fn is_running(&self) -> bool {
+        self.status == JobStatus::Running
+    }
+
+    /// Share done, 0 to 1.
+    pub fn fraction(&self) -> f64 {
+        if self.total == 0 {
+            0.0
+        } else {
+            (self.done as f64 / self.total as f64).clamp(0.0, 1.0)
+        }
+    }
+
+    /// Time left, by the pace so far (milliseconds).
+    pub fn eta_ms(&self) -> Option<f64> {
+        (self.is_running() && self.done > 0 && self.total >= self.done).then(|| {
+            let elapsed = (self.updated_ms - self.started_ms).max(0.0);
+            elapsed / self.done as f64 * (self.total - self.done) as f64
+        })
+    }
+}
+
+fn slot_scenario(bench: &Workbench, kind: TaskKind) -> Scenario {
+    bench
+        .jobs
+        .get(&kind)
+        .map(|s| s.scenario.clone())
+        .unwrap_or_else(|| setup_of(&bench.scenario))
+}
+
+/// The model setup of a scenario, without what travels with it (data,
+/// fit, variants, study settings): what a run depends on.
+pub fn setup_of(scenario: &Scenario) -> Scenario {
+    let mut s = scenario.clone();
+    s.data = None;
+    s.fit = None;
+    s.variants.clear();
+    s.studies = None;
+    s
 }
 
 /// Most undo steps kept.
@@ -249,11 +431,17 @@ pub struct Workbench {
     pub last_edit: Option<Field>,
     /// A message for the user about the last open, save or link.
     pub notice: Option<String>,
+    pub view: View,
+    /// The last job of each kind.
+    pub jobs: BTreeMap<TaskKind, JobSlot>,
 }
 
 impl PartialEq for Workbench {
     fn eq(&self, other: &Self) -> bool {
         Rc::ptr_eq(&self.run, &other.run)
+            && self.scenario == other.scenario
+            && self.view == other.view
+            && self.jobs == other.jobs
             && self.texts == other.texts
             && self.errors == other.errors
             && self.log_scale == other.log_scale
@@ -289,6 +477,8 @@ impl Workbench {
             future: Vec::new(),
             last_edit: None,
             notice: None,
+            view: View::default(),
+            jobs: BTreeMap::new(),
         })
     }
 
@@ -385,6 +575,16 @@ impl Workbench {
                     );
                     s.time_unit = self.scenario.time_unit.clone();
                     s.output_step = None;
+                    // Counts and variants stay; settings that name the old
+                    // model's parameters and its fit do not.
+                    s.data = self.scenario.data.clone();
+                    s.variants = self.scenario.variants.clone();
+                    s.studies = self.scenario.studies.clone().map(|st| Studies {
+                        line: None,
+                        map: None,
+                        fit: None,
+                        ..st
+                    });
                     self.replace(s, true)
                 }
                 _ => self.clone(),
@@ -503,7 +703,197 @@ impl Workbench {
                 next.notice = Some(message);
                 next
             }
+            Action::SetView { view } => {
+                let mut next = self.clone();
+                next.view = view;
+                next
+            }
+            Action::JobStarted { id, task, now } => self.job_started(id, task, now),
+            Action::JobUpdate { kind, update, now } => self.job_update(kind, update, now),
+            Action::JobCancelled { kind } => {
+                let mut next = self.clone();
+                if let Some(slot) = next.jobs.get_mut(&kind).filter(|s| s.is_running()) {
+                    slot.status = JobStatus::Cancelled;
+                    if let Some(outcome) = &slot.outcome {
+                        let mut kept = (**outcome).clone();
+                        kept.mark_partial();
+                        slot.outcome = Some(Rc::new(kept));
+                    }
+                }
+                next
+            }
+            Action::SetParams { values } => {
+                let mut s = self.scenario.clone();
+                for (symbol, value) in values {
+                    s.params.insert(symbol, value);
+                }
+                let mut next = self.replace(s, false);
+                if !Rc::ptr_eq(&next.run, &self.run) {
+                    next.view = View::Workbench;
+                }
+                next
+            }
+            Action::UseFitted => match &self.scenario.fit {
+                Some(saved) => {
+                    let mut next = self.replace(saved.result.apply_to(&self.scenario), false);
+                    if !Rc::ptr_eq(&next.run, &self.run) {
+                        next.notice = Some("The fitted values are now the scenario's (Undo brings the old ones back).".into());
+                    }
+                    next
+                }
+                None => self.clone(),
+            },
+            Action::SetData { data, source } => {
+                let mut s = self.scenario.clone();
+                let message = match &data {
+                    Some(d) => format!(
+                        "Kept {} counts at {} times from {source} with the scenario.",
+                        d.n_observations(),
+                        d.times.len()
+                    ),
+                    None => "The imported counts were removed (Undo brings them back).".into(),
+                };
+                s.data = data;
+                let mut next = self.replace(s, false);
+                if next.scenario != self.scenario {
+                    next.notice = Some(message);
+                }
+                next
+            }
+            Action::SaveVariant { name } => {
+                let name = name.trim().to_string();
+                let mut next = self.clone();
+                if name.is_empty() {
+                    next.notice = Some("Give the variant a name.".into());
+                    return next;
+                }
+                if self.scenario.variants.len() >= MAX_VARIANTS {
+                    next.notice = Some(format!(
+                        "At most {MAX_VARIANTS} variants are kept: delete one first."
+                    ));
+                    return next;
+                }
+                let mut s = self.scenario.clone();
+                s.variants.push(Variant {
+                    name,
+                    scenario: Box::new(setup_of(&self.scenario)),
+                });
+                self.replace(s, false)
+            }
+            Action::DeleteVariant { index } => {
+                if index >= self.scenario.variants.len() {
+                    return self.clone();
+                }
+                let mut s = self.scenario.clone();
+                s.variants.remove(index);
+                self.replace(s, false)
+            }
+            Action::LoadVariant { index } => {
+                let Some(v) = self.scenario.variants.get(index) else {
+                    return self.clone();
+                };
+                let mut s = (*v.scenario).clone();
+                s.data = self.scenario.data.clone();
+                s.fit = self.scenario.fit.clone();
+                s.variants = self.scenario.variants.clone();
+                s.studies = self.scenario.studies.clone();
+                let mut next = self.replace(s, true);
+                next.notice = Some(format!("Now showing the variant \"{}\".", v.name));
+                next
+            }
         }
+    }
+
+    fn job_started(&self, id: u64, task: Task, now: f64) -> Workbench {
+        let mut next = self.clone();
+        // Remember what was asked, so a reopened file asks the same again.
+        let studies = next.scenario.studies.get_or_insert_with(Studies::default);
+        match &task {
+            Task::Plan { request } => studies.plan = Some(request.clone()),
+            Task::Line { request } => studies.line = Some(request.clone()),
+            Task::Map { request } => studies.map = Some(request.clone()),
+            Task::Fit { request, .. } => studies.fit = Some(request.clone()),
+            Task::Ensemble { options } => studies.ensemble = Some(options.clone()),
+            Task::Founders { request } => studies.founders = Some(request.clone()),
+        }
+        next.jobs.insert(
+            task.kind(),
+            JobSlot {
+                id,
+                scenario: setup_of(&self.scenario),
+                task,
+                started_ms: now,
+                updated_ms: now,
+                done: 0,
+                total: 0,
+                status: JobStatus::Running,
+                outcome: None,
+            },
+        );
+        next
+    }
+
+    fn job_update(&self, kind: TaskKind, update: Update, now: f64) -> Workbench {
+        let mut next = self.clone();
+        let Some(slot) = next.jobs.get_mut(&kind) else {
+            return next;
+        };
+        // Id 0: the worker could not say which job (it failed to decode or
+        // died); it concerns the job it was running.
+        let id_of = |id: u64| id == slot.id || id == 0;
+        if !slot.is_running() {
+            return next;
+        }
+        slot.updated_ms = now;
+        let mut saved_fit = None;
+        match update {
+            Update::Ready => {}
+            Update::Progress { id, done, total } if id_of(id) => {
+                slot.done = done;
+                slot.total = total;
+            }
+            Update::Partial { id, outcome } if id_of(id) => {
+                let mut merged = slot
+                    .outcome
+                    .as_deref()
+                    .cloned()
+                    .unwrap_or_else(|| outcome.clone());
+                if slot.outcome.is_some() {
+                    merged.absorb(outcome);
+                }
+                slot.outcome = Some(Rc::new(merged));
+            }
+            Update::Done { id, outcome } if id_of(id) => {
+                slot.done = slot.total.max(slot.done);
+                slot.status = JobStatus::Finished;
+                if let (Outcome::Fit(result), Task::Fit { request, .. }) = (&outcome, &slot.task) {
+                    saved_fit = Some(SavedFit {
+                        request: request.clone(),
+                        result: result.clone(),
+                    });
+                }
+                slot.outcome = Some(Rc::new(outcome));
+            }
+            Update::Failed { id, message } if id_of(id) => {
+                slot.status = JobStatus::Failed(message);
+            }
+            _ => {}
+        }
+        if let Some(fit) = saved_fit {
+            // The fit travels with the scenario it was made for.
+            if setup_of(&next.scenario) == slot_scenario(&next, kind) {
+                next.scenario.fit = Some(fit);
+            }
+        }
+        next
+    }
+
+    /// Whether a job's result was computed for another setup than the
+    /// current one.
+    pub fn is_stale(&self, kind: TaskKind) -> bool {
+        self.jobs
+            .get(&kind)
+            .is_some_and(|slot| slot.scenario != setup_of(&self.scenario))
     }
 
     fn texts_cleared_for_event(&self, index: usize) -> Workbench {
@@ -580,9 +970,12 @@ impl Workbench {
                     next.starts.clear();
                 }
                 next.remember(&self.scenario, None);
+                let same_setup = setup_of(&scenario) == setup_of(&self.scenario);
                 next.scenario = scenario;
-                next.example = None;
-                next.recompute(problem);
+                if !same_setup || fresh {
+                    next.example = None;
+                    next.recompute(problem);
+                }
             }
             Err(e) => {
                 // Keep the current run and say why nothing changed.
@@ -1083,5 +1476,217 @@ mod tests {
             .as_ref()
             .expect("competition has a verdict");
         assert_eq!(outcome.kind, "species_1_excludes_2");
+    }
+
+    fn fit_task(b: &Workbench) -> Task {
+        let data = CountData {
+            times: vec![0.0, 10.0, 20.0, 30.0],
+            series: vec![tussock_core::data::CountSeries {
+                species: 0,
+                column: "prey".into(),
+                counts: vec![Some(20.0), Some(60.0), Some(90.0), Some(40.0)],
+            }],
+        };
+        let _ = b;
+        Task::Fit {
+            data,
+            request: tussock_core::fit::FitRequest::new(&["K"]),
+        }
+    }
+
+    #[test]
+    fn a_job_runs_streams_and_finishes_with_a_time_left_estimate() {
+        let b = bench();
+        let job = crate::jobs::Job {
+            id: 11,
+            scenario: b.scenario.clone(),
+            task: Task::Ensemble {
+                options: tussock_core::stochastic::EnsembleOptions {
+                    runs: 40,
+                    seed: 3,
+                    ..Default::default()
+                },
+            },
+        };
+        let kind = job.task.kind();
+        let mut b = b.apply(Action::JobStarted {
+            id: 11,
+            task: job.task.clone(),
+            now: 1000.0,
+        });
+        assert!(b.jobs[&kind].is_running());
+        assert!(b.scenario.studies.as_ref().unwrap().ensemble.is_some());
+        let mut clock = 1000.0;
+        crate::jobs::run(&job, &|| 0.0, &mut |update| {
+            clock += 100.0;
+            b = b.apply(Action::JobUpdate {
+                kind,
+                update,
+                now: clock,
+            });
+            if b.jobs[&kind].is_running() && b.jobs[&kind].done > 0 {
+                assert!(b.jobs[&kind].eta_ms().is_some_and(|t| t >= 0.0));
+            }
+            true
+        });
+        let slot = &b.jobs[&kind];
+        assert_eq!(slot.status, JobStatus::Finished);
+        assert!(!slot.outcome.as_ref().unwrap().is_partial());
+        assert_eq!(slot.fraction(), 1.0);
+        assert!(!b.is_stale(kind));
+        let changed = b.apply(set("K", "200"));
+        assert!(
+            changed.is_stale(kind),
+            "results of another setup are marked stale"
+        );
+    }
+
+    #[test]
+    fn cancelling_keeps_the_partial_result_marked_partial() {
+        let b = bench();
+        let task = Task::Ensemble {
+            options: tussock_core::stochastic::EnsembleOptions {
+                runs: 400,
+                seed: 3,
+                ..Default::default()
+            },
+        };
+        let job = crate::jobs::Job {
+            id: 12,
+            scenario: b.scenario.clone(),
+            task: task.clone(),
+        };
+        let kind = task.kind();
+        let mut b = b.apply(Action::JobStarted {
+            id: 12,
+            task,
+            now: 0.0,
+        });
+        let mut n = 0;
+        let clock = std::cell::Cell::new(0.0);
+        crate::jobs::run(
+            &job,
+            &|| {
+                clock.set(clock.get() + 1000.0);
+                clock.get()
+            },
+            &mut |update| {
+                // A terminated worker sends nothing more.
+                if n < 8 {
+                    b = b.apply(Action::JobUpdate {
+                        kind,
+                        update,
+                        now: 1.0,
+                    });
+                }
+                n += 1;
+                n < 8
+            },
+        );
+        let b = b.apply(Action::JobCancelled { kind });
+        let slot = &b.jobs[&kind];
+        assert_eq!(slot.status, JobStatus::Cancelled);
+        assert!(slot.outcome.as_ref().expect("partial kept").is_partial());
+        // A late message from the terminated worker changes nothing.
+        let late = b.apply(Action::JobUpdate {
+            kind,
+            update: Update::Failed {
+                id: 12,
+                message: "x".into(),
+            },
+            now: 2.0,
+        });
+        assert_eq!(late.jobs[&kind].status, JobStatus::Cancelled);
+    }
+
+    #[test]
+    fn a_finished_fit_travels_with_the_scenario_and_can_be_used() {
+        let b = Workbench::new(
+            Scenario::from_json(r#"{"model": "logistic", "params": {"b": 0.5, "d": 0.1, "K": 80}, "initial": [20], "t_end": 30}"#).unwrap(),
+        )
+        .unwrap();
+        let task = fit_task(&b);
+        let job = crate::jobs::Job {
+            id: 5,
+            scenario: b.scenario.clone(),
+            task: task.clone(),
+        };
+        let mut b = b.apply(Action::JobStarted {
+            id: 5,
+            task,
+            now: 0.0,
+        });
+        let outcome = crate::jobs::run_to_end(&job).unwrap();
+        b = b.apply(Action::JobUpdate {
+            kind: TaskKind::Fit,
+            update: Update::Done { id: 5, outcome },
+            now: 1.0,
+        });
+        let fitted_k = b.scenario.fit.as_ref().expect("fit kept").result.estimates[0].value;
+        let solves = b.n_solves;
+        let used = b.apply(Action::UseFitted);
+        assert!(used.n_solves > solves);
+        assert_eq!(used.scenario.params["K"], fitted_k);
+        assert_ne!(fitted_k, 80.0);
+        assert!(used.apply(Action::Undo).scenario.params == b.scenario.params);
+    }
+
+    #[test]
+    fn counts_and_variants_travel_without_re_simulating() {
+        let b = bench();
+        let Task::Fit { data, .. } = fit_task(&b) else {
+            unreachable!()
+        };
+        let with = b.apply(Action::SetData {
+            data: Some(data),
+            source: "a paste".into(),
+        });
+        assert!(with.scenario.data.is_some());
+        assert_eq!(with.n_solves, b.n_solves, "data alone does not re-simulate");
+        assert!(with.notice.as_deref().unwrap().contains("4 counts"));
+        let saved = with.apply(Action::SaveVariant {
+            name: "as is".into(),
+        });
+        assert_eq!(saved.scenario.variants.len(), 1);
+        assert_eq!(saved.n_solves, b.n_solves);
+        let unnamed = saved.apply(Action::SaveVariant { name: " ".into() });
+        assert_eq!(unnamed.scenario.variants.len(), 1);
+        let changed = saved.apply(set("K", "300"));
+        let back = changed.apply(Action::LoadVariant { index: 0 });
+        assert_eq!(back.scenario.params, saved.scenario.params);
+        assert_eq!(back.scenario.variants.len(), 1);
+        assert!(back.scenario.data.is_some());
+        let mut full = saved.clone();
+        for i in 0..MAX_VARIANTS {
+            full = full.apply(Action::SaveVariant {
+                name: format!("v{i}"),
+            });
+        }
+        assert_eq!(full.scenario.variants.len(), MAX_VARIANTS);
+        assert!(full.notice.as_deref().unwrap().contains("At most"));
+        let fewer = full.apply(Action::DeleteVariant { index: 0 });
+        assert_eq!(fewer.scenario.variants.len(), MAX_VARIANTS - 1);
+        // Switching model keeps counts and variants.
+        let other = saved.apply(Action::SetModel {
+            key: "lotka_volterra".into(),
+        });
+        assert!(other.scenario.data.is_some() && other.scenario.variants.len() == 1);
+    }
+
+    #[test]
+    fn a_point_picked_on_a_sweep_loads_into_the_workbench() {
+        let mut b = bench();
+        b.view = View::Sweep;
+        let picked = b.apply(Action::SetParams {
+            values: vec![("K".into(), 90.0), ("m".into(), 0.2)],
+        });
+        assert_eq!(picked.view, View::Workbench);
+        assert_eq!(picked.scenario.params["K"], 90.0);
+        assert_eq!(picked.run.problem.params[1], 90.0);
+        let bad = b.apply(Action::SetParams {
+            values: vec![("K".into(), -1.0)],
+        });
+        assert_eq!(bad.view, View::Sweep);
+        assert!(bad.notice.as_deref().unwrap().contains("params.K"));
     }
 }

@@ -17,7 +17,9 @@ thread_local! {
 }
 
 fn scope() -> Option<DedicatedWorkerGlobalScope> {
-    js_sys::global().dyn_into::<DedicatedWorkerGlobalScope>().ok()
+    js_sys::global()
+        .dyn_into::<DedicatedWorkerGlobalScope>()
+        .ok()
 }
 
 fn post(update: &Update) {
