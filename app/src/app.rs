@@ -14,7 +14,7 @@ use crate::components::scenario_form::ScenarioForm;
 use crate::components::schedule_table::ScheduleTable;
 use crate::components::toolbar::{open_file, Toolbar};
 use crate::figures::Figure;
-use crate::state::{Action, Run, Workbench};
+use crate::state::{Action, Run, View, Workbench};
 use crate::{browser, share};
 
 #[function_component(App)]
@@ -120,9 +120,36 @@ pub fn app() -> Html {
         let d = bench.dispatcher();
         Callback::from(move |message: String| d.dispatch(Action::Notify { message }))
     };
+    let observed = use_memo(bench.scenario.data.clone(), |d| d.clone().map(Shared::new));
     let on_clear = {
         let d = bench.dispatcher();
         Callback::from(move |_: MouseEvent| d.dispatch(Action::ClearStarts))
+    };
+
+    let workbench = html! {
+        <>
+            <AnalysisPanel run={run.clone()} />
+            <div class="chart-head">
+                <h2>{ "Densities over time" }</h2>
+                <label class="toggle"><input id="log-scale" type="checkbox" checked={bench.log_scale} onchange={on_log} />{ " log scale" }</label>
+            </div>
+            <ChartCanvas id="chart-time" figure={Figure::TimeSeries { run: run.clone(), log_y: bench.log_scale, observed: (*observed).clone() }} summary={time_summary(&run)} on_error={on_notify.clone()} />
+            if two_species {
+                <div class="chart-head">
+                    <h2>{ "Phase plane" }</h2>
+                    <button id="clear-trajectories" type="button" onclick={on_clear} disabled={bench.starts.is_empty()}>
+                        { format!("Clear added trajectories ({})", bench.starts.len()) }
+                    </button>
+                </div>
+                <ChartCanvas id="chart-phase" figure={Figure::PhasePlane { run: run.clone(), observed: (*observed).clone() }} summary={phase_summary(&run)} on_click={on_plane_click} on_error={on_notify.clone()} />
+                <p class="key" aria-hidden="true">
+                    { format!("Key: ● stable equilibrium  ○ unstable  ⊗ saddle  — — {} nullcline  · · · {} nullcline  ",
+                        run.problem.species[0], run.problem.species[1]) }
+                    <span class="swatch-extra">{ "━" }</span>{ " trajectories you added (click the plane)" }
+                </p>
+            }
+            <ScheduleTable bench={bench.clone()} />
+        </>
     };
 
     html! {
@@ -145,30 +172,19 @@ pub fn app() -> Html {
                 <ScenarioForm bench={bench.clone()} />
             </aside>
             <section class="results" aria-label="results">
+                <ViewTabs bench={bench.clone()} />
                 if let Some(message) = stop {
                     <p class="stop-warning" role="status">{ message }</p>
                 }
-                <AnalysisPanel run={run.clone()} />
-                <div class="chart-head">
-                    <h2>{ "Densities over time" }</h2>
-                    <label class="toggle"><input id="log-scale" type="checkbox" checked={bench.log_scale} onchange={on_log} />{ " log scale" }</label>
-                </div>
-                <ChartCanvas id="chart-time" figure={Figure::TimeSeries { run: run.clone(), log_y: bench.log_scale }} summary={time_summary(&run)} on_error={on_notify.clone()} />
-                if two_species {
-                    <div class="chart-head">
-                        <h2>{ "Phase plane" }</h2>
-                        <button id="clear-trajectories" type="button" onclick={on_clear} disabled={bench.starts.is_empty()}>
-                            { format!("Clear added trajectories ({})", bench.starts.len()) }
-                        </button>
-                    </div>
-                    <ChartCanvas id="chart-phase" figure={Figure::PhasePlane { run: run.clone() }} summary={phase_summary(&run)} on_click={on_plane_click} on_error={on_notify.clone()} />
-                    <p class="key" aria-hidden="true">
-                        { format!("Key: ● stable equilibrium  ○ unstable  ⊗ saddle  — — {} nullcline  · · · {} nullcline  ",
-                            run.problem.species[0], run.problem.species[1]) }
-                        <span class="swatch-extra">{ "━" }</span>{ " trajectories you added (click the plane)" }
-                    </p>
-                }
-                <ScheduleTable bench={bench.clone()} />
+                { match bench.view {
+                    View::Workbench => workbench,
+                    View::Planner => html! { <PlannerPanel bench={bench.clone()} /> },
+                    View::Variants => html! { <VariantsPanel bench={bench.clone()} /> },
+                    View::Sweep => html! { <SweepPanel bench={bench.clone()} /> },
+                    View::Fit => html! { <FitPanel bench={bench.clone()} /> },
+                    View::Chance => html! { <ChancePanel bench={bench.clone()} /> },
+                    View::Report => html! { <ReportView bench={bench.clone()} /> },
+                } }
             </section>
         </div>
         <footer class="cautions">

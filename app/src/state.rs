@@ -115,7 +115,7 @@ pub enum Action {
     /// A worker reported on a job.
     JobUpdate {
         kind: TaskKind,
-        update: Update,
+        update: Box<Update>,
         now: f64,
     },
     /// The user stopped a job: keep what came back, marked partial.
@@ -129,6 +129,12 @@ pub enum Action {
     },
     /// Put the last fit's estimates into the scenario.
     UseFitted,
+    /// Take a scenario a study proposes (the planner's release added to
+    /// the schedule), say so, and show the workbench.
+    Adopt {
+        scenario: Box<Scenario>,
+        message: String,
+    },
     /// Keep imported counts with the scenario (None clears them).
     SetData {
         data: Option<CountData>,
@@ -163,16 +169,19 @@ pub enum View {
     Fit,
     /// Stochastic runs: extinction and establishment risk.
     Chance,
+    /// One printable page of everything.
+    Report,
 }
 
 impl View {
-    pub const ALL: [View; 6] = [
+    pub const ALL: [View; 7] = [
         View::Workbench,
         View::Planner,
         View::Variants,
         View::Sweep,
         View::Fit,
         View::Chance,
+        View::Report,
     ];
 
     pub fn label(self) -> &'static str {
@@ -183,6 +192,7 @@ impl View {
             View::Sweep => "Sweep parameters",
             View::Fit => "Fit to counts",
             View::Chance => "Chance and risk",
+            View::Report => "Report",
         }
     }
 
@@ -195,6 +205,7 @@ impl View {
             View::Sweep => "sweep",
             View::Fit => "fit",
             View::Chance => "chance",
+            View::Report => "report",
         }
     }
 }
@@ -709,7 +720,7 @@ impl Workbench {
                 next
             }
             Action::JobStarted { id, task, now } => self.job_started(id, task, now),
-            Action::JobUpdate { kind, update, now } => self.job_update(kind, update, now),
+            Action::JobUpdate { kind, update, now } => self.job_update(kind, *update, now),
             Action::JobCancelled { kind } => {
                 let mut next = self.clone();
                 if let Some(slot) = next.jobs.get_mut(&kind).filter(|s| s.is_running()) {
@@ -729,6 +740,14 @@ impl Workbench {
                 }
                 let mut next = self.replace(s, false);
                 if !Rc::ptr_eq(&next.run, &self.run) {
+                    next.view = View::Workbench;
+                }
+                next
+            }
+            Action::Adopt { scenario, message } => {
+                let mut next = self.replace(*scenario, false);
+                if next.scenario != self.scenario {
+                    next.notice = Some(message);
                     next.view = View::Workbench;
                 }
                 next
@@ -1521,7 +1540,7 @@ mod tests {
             clock += 100.0;
             b = b.apply(Action::JobUpdate {
                 kind,
-                update,
+                update: Box::new(update),
                 now: clock,
             });
             if b.jobs[&kind].is_running() && b.jobs[&kind].done > 0 {
@@ -1575,7 +1594,7 @@ mod tests {
                 if n < 8 {
                     b = b.apply(Action::JobUpdate {
                         kind,
-                        update,
+                        update: Box::new(update),
                         now: 1.0,
                     });
                 }
@@ -1590,10 +1609,10 @@ mod tests {
         // A late message from the terminated worker changes nothing.
         let late = b.apply(Action::JobUpdate {
             kind,
-            update: Update::Failed {
+            update: Box::new(Update::Failed {
                 id: 12,
                 message: "x".into(),
-            },
+            }),
             now: 2.0,
         });
         assert_eq!(late.jobs[&kind].status, JobStatus::Cancelled);
@@ -1619,7 +1638,7 @@ mod tests {
         let outcome = crate::jobs::run_to_end(&job).unwrap();
         b = b.apply(Action::JobUpdate {
             kind: TaskKind::Fit,
-            update: Update::Done { id: 5, outcome },
+            update: Box::new(Update::Done { id: 5, outcome }),
             now: 1.0,
         });
         let fitted_k = b.scenario.fit.as_ref().expect("fit kept").result.estimates[0].value;

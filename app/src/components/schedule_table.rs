@@ -159,3 +159,52 @@ pub fn schedule_table(props: &ScheduleTableProps) -> Html {
         </section>
     }
 }
+
+/// An event in words, for reports: `t = 7 days: release 0.5 predatory mite, every 7 days, 3 times`.
+pub fn describe_event(
+    e: &tussock_core::events::EventSpec,
+    species: &[String],
+    time_unit: &str,
+) -> String {
+    let name = species.get(e.species).map_or("?", String::as_str);
+    let other = species.get(1 - e.species.min(1)).map_or("?", String::as_str);
+    let what = match EventKind::of(e) {
+        EventKind::Release => format!("release {} {name}", crate::state::format_number(e.add.unwrap_or(0.0))),
+        EventKind::ReleaseRatio => format!(
+            "release {} {name} per {other}",
+            crate::state::format_number(e.add_ratio.unwrap_or(0.0))
+        ),
+        EventKind::Remove => format!(
+            "remove {}% of {name}",
+            tussock_core::analysis::round_sig(100.0 * e.remove_fraction.unwrap_or(0.0), 3)
+        ),
+        EventKind::HarvestRate => format!(
+            "harvest {} {name} per {} until t = {}",
+            crate::state::format_number(e.harvest_rate.unwrap_or(0.0)),
+            time_unit.trim_end_matches('s'),
+            crate::state::format_number(e.until.unwrap_or(0.0))
+        ),
+        EventKind::StockingRate => format!(
+            "stock {} {name} per {} until t = {}",
+            crate::state::format_number(e.stocking_rate.unwrap_or(0.0)),
+            time_unit.trim_end_matches('s'),
+            crate::state::format_number(e.until.unwrap_or(0.0))
+        ),
+    };
+    let repeat = match (e.every, e.count) {
+        (Some(every), Some(count)) if count > 1 => format!(
+            ", every {} {time_unit}, {count} times",
+            crate::state::format_number(every)
+        ),
+        (Some(every), None) => format!(
+            ", every {} {time_unit} to the horizon",
+            crate::state::format_number(every)
+        ),
+        _ => String::new(),
+    };
+    let label = e.label.as_ref().map(|l| format!(" ({l})")).unwrap_or_default();
+    format!(
+        "t = {} {time_unit}: {what}{repeat}{label}",
+        crate::state::format_number(e.time)
+    )
+}
