@@ -114,3 +114,109 @@ pub fn draw_variants<DB: DrawingBackend>(
     }
     Ok(map)
 }
+
+#[cfg(test)]
+mod tests {
+    //! The greenhouse plan (spider mite with economic threshold 10) against
+    //! variants. With no predator the pest grows logistically, N(t) =
+    //! K / (1 + (K/N₀ − 1) e^(−rt)) (Verhulst 1838), N₀ = 2, K = 150,
+    //! r = 0.25: the current scenario's line must follow it.
+
+    use super::*;
+    use crate::fit::tests::census_scenario;
+    use crate::testing::{draw, hex, scenario, Drawn, GREENHOUSE_PLAN};
+    use tussock_core::events::EventSpec;
+
+    fn run(json_edit: impl FnOnce(&mut tussock_core::Scenario)) -> Run {
+        let mut s = scenario(GREENHOUSE_PLAN);
+        json_edit(&mut s);
+        Run::compute(s.validate().unwrap(), &[])
+    }
+
+    /// The one place the tests draw variants.
+    fn check(variants: &[(&str, &Run)], species: usize, name: &str) -> Drawn {
+        let drawn = draw(|root| draw_variants(root, variants, species, 1.0));
+        drawn.keep(name);
+        drawn
+    }
+
+    #[test]
+    fn variants_overlay_with_the_current_threshold() {
+        let current = run(|_| {});
+        let released = run(|s| {
+            s.events = vec![EventSpec {
+                time: 7.0,
+                species: 1,
+                add: Some(2.0),
+                ..EventSpec::default()
+            }]
+        });
+        let crowded = run(|s| {
+            s.params.insert("K".into(), 300.0);
+        });
+        let variants = [
+            ("as set", &current),
+            ("release on day 7", &released),
+            ("K = 300", &crowded),
+        ];
+        let drawn = check(&variants, 0, "variants");
+        for (name, _) in variants {
+            assert!(drawn.has_text(name), "{name} not in the legend");
+        }
+        assert!(drawn.has_text("economic threshold"));
+        // The current scenario: one solid line, every output time, on
+        // Verhulst's curve.
+        let n = current.trajectory.times.len();
+        let lines: Vec<Vec<(f64, f64)>> = drawn
+            .polylines(&hex(series_look(0).colour), 3)
+            .into_iter()
+            .filter(|l| l.len() == n)
+            .collect();
+        assert_eq!(lines.len(), 1);
+        let span = drawn.map.y.1 - drawn.map.y.0;
+        for &p in lines[0].iter().step_by(17) {
+            let (t, y) = drawn.data_at(p);
+            let logistic = 150.0 / (1.0 + 74.0 * f64::exp(-0.25 * t));
+            // A pixel of time either way moves a steep curve further.
+            let slope = 0.25 * logistic * (1.0 - logistic / 150.0);
+            let tolerance = 2.0 * span / 460.0 + slope * 2.0 * drawn.map.x.1 / 800.0;
+            assert!(
+                (y - logistic).abs() <= tolerance,
+                "t = {t}: {y} vs {logistic}"
+            );
+        }
+        // The others dashed: many short pieces in their colours.
+        for k in 1..3 {
+            let dashes = drawn.polylines(&hex(series_look(k).colour), 2).len();
+            assert!(dashes > 20, "variant {k}: {dashes} dashes");
+        }
+        // The threshold at 10, long-dashed and dark.
+        let level: Vec<f64> = drawn
+            .polylines("#282828", 2)
+            .iter()
+            .filter(|l| l.len() == 2 && l[0].1 == l[1].1)
+            .map(|l| drawn.data_at(l[0]).1)
+            .collect();
+        assert!(
+            level.iter().any(|y| (y - 10.0).abs() < span / 460.0),
+            "{level:?}"
+        );
+        // The predator's chart has no threshold (it belongs to the pest).
+        let predator = check(&variants, 1, "variants-predator");
+        assert!(!predator.has_text("economic threshold"));
+    }
+
+    #[test]
+    fn missing_species_and_no_variants_are_said() {
+        let current = run(|_| {});
+        let single = Run::compute(census_scenario().validate().unwrap(), &[]);
+        let drawn = check(
+            &[("as set", &current), ("one species", &single)],
+            1,
+            "variants-missing",
+        );
+        assert!(drawn.has_text("without predatory mite: one species"));
+        assert!(check(&[], 0, "variants-none").has_text("no runs to compare"));
+        check(&[("only", &single)], 4, "variants-nothing");
+    }
+}

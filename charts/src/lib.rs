@@ -289,11 +289,12 @@ pub(crate) fn log_ticks(lo: f64, hi: f64) -> Vec<f64> {
     } else {
         (1, &[1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0])
     };
-    let mut ticks = Vec::new();
-    let (first, last) = (lo.floor() as i64, hi.ceil() as i64);
-    if last - first > 400 {
+    // Doubles span at most about 650 decades; more is not a real axis.
+    if hi.ceil() - lo.floor() > 700.0 {
         return Vec::new();
     }
+    let mut ticks = Vec::new();
+    let (first, last) = (lo.floor() as i64, hi.ceil() as i64);
     for decade in first..=last {
         if decade.rem_euclid(every) != 0 {
             continue;
@@ -308,7 +309,7 @@ pub(crate) fn log_ticks(lo: f64, hi: f64) -> Vec<f64> {
     if ticks.len() < 2 {
         ticks = (0..5)
             .map(|k| 10f64.powf(lo + span * (0.1 + 0.2 * k as f64)))
-            .map(|v| round_to(v, 2).log10())
+            .map(|v| round_to(v, 3).log10())
             .collect();
         ticks.dedup();
     }
@@ -964,7 +965,7 @@ pub fn to_svg(
 
 #[cfg(test)]
 mod tests {
-    use super::{tick, PlotMap};
+    use super::{log_ticks, tick, time_point, PlotMap};
 
     #[test]
     fn tick_labels_are_short() {
@@ -1000,5 +1001,49 @@ mod tests {
         };
         let (_, y) = log.to_data(100.0, 10.0).unwrap();
         assert!((y - 100.0).abs() < 1e-9);
+        let log_x = PlotMap {
+            log_x: true,
+            x: (-1.0, 3.0),
+            ..map
+        };
+        let (x, _) = log_x.to_data(300.0, 110.0).unwrap();
+        assert!((x - 10.0).abs() < 1e-9, "half way from 0.1 to 1000 is 10");
+    }
+
+    #[test]
+    fn log_ticks_fall_on_round_values() {
+        // Decades, then the 1-2-5 sequence, then 1 to 9 within a decade, as
+        // log axes are commonly labelled (common practice).
+        let values = |lo: f64, hi: f64| -> Vec<String> {
+            log_ticks(lo, hi)
+                .into_iter()
+                .map(|v| tick(10f64.powf(v)))
+                .collect()
+        };
+        assert_eq!(values(-0.2, 3.1), ["1", "10", "100", "1000"]);
+        assert_eq!(values(0.25, 1.5), ["2", "5", "10", "20"]);
+        assert_eq!(values(0.25, 0.7), ["2", "3", "4", "5"]);
+        // Many decades: every fourth of 24, seven labels.
+        assert_eq!(
+            values(-12.0, 12.0),
+            ["1.0e-12", "1.0e-8", "1.0e-4", "1", "10000", "1.0e8", "1.0e12"]
+        );
+        assert_eq!(values(0.41, 0.44).len(), 5, "evenly spaced inside one step");
+        for (lo, hi) in [
+            (f64::NAN, 1.0),
+            (2.0, 1.0),
+            (0.0, f64::INFINITY),
+            (-1e300, 1e300),
+        ] {
+            assert!(log_ticks(lo, hi).is_empty(), "({lo}, {hi})");
+        }
+    }
+
+    #[test]
+    fn times_read_plainly() {
+        assert_eq!(time_point("days", 7.0), "day 7");
+        assert_eq!(time_point("years", 2.5), "year 2.5");
+        assert_eq!(time_point("h", 3.0), "t = 3 h");
+        assert_eq!(time_point("", 3.0), "t = 3");
     }
 }

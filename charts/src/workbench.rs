@@ -423,3 +423,150 @@ fn paired_counts(observed: Option<&CountData>) -> Vec<(f64, f64)> {
     pairs.sort_by(|a, b| a.0.total_cmp(&b.0));
     pairs.into_iter().map(|(_, p)| p).collect()
 }
+
+#[cfg(test)]
+mod tests {
+    //! The workbench charts with census counts over the model: the U.S.
+    //! census 1790–2000 (see `fit.rs`) over a logistic run, and counts of
+    //! the greenhouse mites on the phase plane. Each count must be drawn
+    //! where it was counted.
+
+    use super::*;
+    use crate::fit::tests::{census, census_scenario, US_CENSUS};
+    use crate::testing::{draw, hex, problem, Drawn, GREENHOUSE_MITES};
+    use tussock_core::data::CountSeries;
+
+    fn census_run() -> Run {
+        Run::compute(census_scenario().validate().unwrap(), &[])
+    }
+
+    /// The one place the tests draw the time series.
+    fn check(run: &Run, observed: Option<&CountData>, log_y: bool, name: &str) -> Drawn {
+        let drawn = draw(|root| draw_time_series(root, run, observed, 1.0, log_y));
+        drawn.keep(name);
+        drawn
+    }
+
+    /// Small filled circles (markers, not legend samples) in a colour, in
+    /// data coordinates.
+    fn marks(drawn: &Drawn, colour: RGBColor) -> Vec<(f64, f64)> {
+        drawn
+            .circles(&hex(colour))
+            .into_iter()
+            .filter(|c| c.2 < 4.5)
+            .map(|c| drawn.data_at((c.0, c.1)))
+            .collect()
+    }
+
+    #[test]
+    fn counts_are_drawn_where_they_were_counted() {
+        let run = census_run();
+        let data = census();
+        for log_y in [false, true] {
+            let drawn = check(&run, Some(&data), log_y, &format!("counts-{log_y}"));
+            assert!(drawn.has_text("people (millions) counted"));
+            let found = marks(&drawn, SPECIES_COLOURS[0]);
+            assert_eq!(found.len(), US_CENSUS.len());
+            let span = drawn.map.y.1 - drawn.map.y.0;
+            for (year, count) in US_CENSUS {
+                let hit = found.iter().any(|&(t, y)| {
+                    let off = if log_y {
+                        (y / count).log10()
+                    } else {
+                        y - count
+                    };
+                    (t - (year - 1790.0)).abs() < 0.5 && off.abs() < 2.0 * span / 460.0
+                });
+                assert!(hit, "{year}: {count} not among {found:?}");
+            }
+        }
+        // Without counts, no markers and the model line as before: one
+        // solid line through every output time.
+        let drawn = check(&run, None, false, "counts-none");
+        assert!(marks(&drawn, SPECIES_COLOURS[0]).is_empty());
+        let n = run.trajectory.times.len();
+        assert!(drawn
+            .polylines(&hex(SPECIES_COLOURS[0]), 2)
+            .iter()
+            .any(|l| l.len() == n));
+    }
+
+    #[test]
+    fn counts_outside_the_run_and_odd_values_do_not_break_it() {
+        let run = census_run();
+        let mut data = census();
+        data.times.push(400.0);
+        data.series[0].counts.push(Some(500.0));
+        data.series[0].counts[3] = None;
+        data.series[0].counts[5] = Some(f64::NAN);
+        data.series[0].counts[4] = Some(0.0);
+        data.series.push(CountSeries {
+            species: 3,
+            column: "nobody".to_string(),
+            counts: vec![Some(1.0); 2],
+        });
+        let drawn = check(&run, Some(&data), true, "counts-odd");
+        // One missing count and one not a number left out; the other 21
+        // drawn (the zero on the log axis's floor), the time axis reaching
+        // the count at 400.
+        assert_eq!(marks(&drawn, SPECIES_COLOURS[0]).len(), 21);
+        assert!(drawn.map.x.1 >= 400.0);
+    }
+
+    #[test]
+    fn phase_plane_joins_paired_counts_in_time_order() {
+        let run = Run::compute(problem(GREENHOUSE_MITES), &[]);
+        // Counts of both mites every 10 days, one predator count missing.
+        let times: Vec<f64> = (0..=8).map(|k| 10.0 * k as f64).collect();
+        let at = |t: f64, i: usize| {
+            let k = run.trajectory.times.iter().position(|&s| s >= t).unwrap();
+            Some(run.trajectory.states[k][i].round())
+        };
+        let mut predators: Vec<Option<f64>> = times.iter().map(|&t| at(t, 1)).collect();
+        predators[4] = None;
+        let data = CountData {
+            series: vec![
+                CountSeries {
+                    species: 1,
+                    column: "predators".to_string(),
+                    counts: predators.clone(),
+                },
+                CountSeries {
+                    species: 0,
+                    column: "prey".to_string(),
+                    counts: times.iter().map(|&t| at(t, 0)).collect(),
+                },
+            ],
+            times: times.clone(),
+        };
+        let drawn = draw(|root| draw_phase_plane(root, &run, Some(&data), 1.0));
+        drawn.keep("phase-counts");
+        let squares: Vec<(f64, f64)> = drawn
+            .rects(&hex(OKABE_ITO.reddish_purple))
+            .iter()
+            .map(|r| drawn.data_at((r[0] + r[2] / 2.0, r[1] + r[3] / 2.0)))
+            .collect();
+        let expected: Vec<(f64, f64)> = times
+            .iter()
+            .zip(&predators)
+            .filter_map(|(&t, p)| Some((at(t, 0)?, (*p)?)))
+            .collect();
+        assert_eq!(squares.len(), expected.len());
+        let (w, h) = (drawn.map.x.1 / 860.0, drawn.map.y.1 / 480.0);
+        for (e, s) in expected.iter().zip(&squares) {
+            assert!(
+                (e.0 - s.0).abs() < 2.0 * w && (e.1 - s.1).abs() < 2.0 * h,
+                "{e:?} {s:?}"
+            );
+        }
+        let joins = format!(
+            "opacity=\"0.8\" stroke=\"{}\"",
+            hex(OKABE_ITO.reddish_purple)
+        );
+        assert_eq!(drawn.svg.matches(&joins).count(), expected.len() - 1);
+        // One species: no phase plane, said plainly.
+        let one = census_run();
+        let svg = crate::to_svg(300, 200, |root| draw_phase_plane(root, &one, None, 1.0));
+        assert_eq!(svg, Err("one species: no phase plane".to_string()));
+    }
+}
