@@ -30,7 +30,10 @@ pub use compare::draw_variants;
 pub use fit::draw_residuals;
 pub use plan::{draw_release_timing, draw_response_curves};
 pub use stochastic::{draw_establishment, draw_extinction_curves, draw_fan};
-pub use sweep::{class_colour, class_label, draw_bifurcation, draw_outcome_map, legend_classes};
+pub use sweep::{
+    bifurcation_label, class_colour, class_label, draw_bifurcation, draw_outcome_map,
+    legend_classes,
+};
 pub use workbench::{draw_phase_plane, draw_time_series};
 
 /// Line colours: Okabe & Ito (2008) colour-blind-safe palette (blue,

@@ -74,6 +74,17 @@ impl Drawn {
         roxmltree::Document::parse(&self.svg).expect("the SVG parses as XML")
     }
 
+    /// How many rectangles are filled with each colour (one pass).
+    pub fn rect_fills(&self) -> std::collections::HashMap<String, usize> {
+        let mut counts = std::collections::HashMap::new();
+        for n in self.doc().descendants().filter(|n| n.has_tag_name("rect")) {
+            if let Some(fill) = n.attribute("fill") {
+                *counts.entry(fill.to_string()).or_default() += 1;
+            }
+        }
+        counts
+    }
+
     /// Filled rectangles of a colour: (x, y, width, height).
     pub fn rects(&self, fill: &str) -> Vec<[f64; 4]> {
         self.doc()
