@@ -175,6 +175,12 @@ pub fn draw_response_curves<DB: DrawingBackend>(
     if plan.rows.iter().any(|r| r.smallest.is_some()) {
         notes.push("filled: smallest size meeting the goal".to_string());
     }
+    if plan.rows.iter().any(|r| r.at_lower_bound) {
+        notes.push("at the left end: that size or less".to_string());
+    }
+    if plan.rows.iter().any(|r| r.non_monotone) {
+        notes.push("some larger sizes fail again".to_string());
+    }
     let unreleased = extent(
         plan.rows
             .iter()
@@ -270,6 +276,25 @@ pub fn draw_release_timing<DB: DrawingBackend>(
             (look.marker, look.colour, true),
             scale,
         )?;
+        // "This much or less": the smallest size searched already met it.
+        for r in rows.iter().filter(|r| r.at_lower_bound) {
+            let Some(s) = r.smallest.filter(|&s| positive(s)) else {
+                continue;
+            };
+            if map.holds((r.time, s.log10())) {
+                let (x, y) = map.pixel_of((r.time, s.log10()));
+                let at = (x as i32 - px(scale, 7.0) as i32, y as i32);
+                let size = font_size(scale, 12.0);
+                text_at(
+                    root,
+                    "≤",
+                    at,
+                    (HPos::Right, VPos::Center),
+                    size,
+                    look.colour,
+                )?;
+            }
+        }
         for p in line.iter().filter(|p| !p.1.is_finite() && p.0.is_finite()) {
             any_none = true;
             let (x, _) = map.pixel_of((p.0, map.y.0));
@@ -357,6 +382,7 @@ mod tests {
             assert!(curves.has_text(&row_name("days", row.time, row.count)));
         }
         assert!(curves.has_text("day 7, 3 releases") && curves.has_text("goal met above"));
+        assert!(curves.has_text("at the left end: that size or less"));
         // Rows 0 and 5 are drawn with circles (blue, sky blue); their
         // answers are the large filled circles on the goal line.
         for k in [0, 5] {
@@ -389,6 +415,8 @@ mod tests {
         let (_, timing) = check(&plan, "plan");
         assert!(timing.map.log_y);
         assert!(timing.has_text("none in range") && timing.has_text("3 releases"));
+        // Early releases already work at the smallest size searched.
+        assert!(plan.rows.iter().any(|r| r.at_lower_bound) && timing.has_text("≤"));
         // One release, drawn with circles: filled at (time, size) where
         // there is an answer, open in the band at the top where there is
         // none.
