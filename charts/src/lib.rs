@@ -285,7 +285,7 @@ pub(crate) fn log_ticks(lo: f64, hi: f64) -> Vec<f64> {
     let span = hi - lo;
     let (every, multiples): (i64, &[f64]) = if span > 7.0 {
         ((span / 6.0).ceil() as i64, &[1.0])
-    } else if span >= 2.0 {
+    } else if span >= 3.0 {
         (1, &[1.0])
     } else if span >= 0.6 {
         (1, &[1.0, 2.0, 5.0])
@@ -1025,6 +1025,10 @@ mod tests {
         };
         assert_eq!(values(-0.2, 3.1), ["1", "10", "100", "1000"]);
         assert_eq!(values(0.25, 1.5), ["2", "5", "10", "20"]);
+        assert_eq!(
+            values(0.18, 2.6),
+            ["2", "5", "10", "20", "50", "100", "200"]
+        );
         assert_eq!(values(0.25, 0.7), ["2", "3", "4", "5"]);
         // Many decades: every fourth of 24, seven labels.
         assert_eq!(

@@ -315,7 +315,8 @@ pub fn draw_bifurcation<DB: DrawingBackend>(
         "long-run min and max (simulated)",
         LegendSample::marker(colour, Marker::Circle, true, scale),
     )?;
-    legend(&mut chart, scale, SeriesLabelPosition::UpperRight)?;
+    // Upper left: enrichment pushes branches and cycles up to the right.
+    legend(&mut chart, scale, SeriesLabelPosition::UpperLeft)?;
 
     let mut notes = Vec::new();
     if sweep.points.is_empty() {
@@ -330,8 +331,9 @@ pub fn draw_bifurcation<DB: DrawingBackend>(
     if sweep.partial && !sweep.points.is_empty() {
         notes.push("stopped before every value was computed".to_string());
     }
+    // Below the legend's three rows.
     for (line, text) in notes.iter().enumerate() {
-        note(root, &map, line, text, scale)?;
+        note(root, &map, 5 + line, text, scale)?;
     }
     Ok(map)
 }
