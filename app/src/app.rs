@@ -7,13 +7,20 @@ use web_sys::HtmlInputElement;
 use yew::prelude::*;
 
 use crate::components::analysis_panel::{long_run_sentence, AnalysisPanel};
+use crate::components::chance_panel::ChancePanel;
 use crate::components::chart_canvas::ChartCanvas;
 use crate::components::example_menu::ExampleMenu;
+use crate::components::fit_panel::FitPanel;
 use crate::components::model_picker::ModelPicker;
+use crate::components::planner_panel::PlannerPanel;
+use crate::components::report_view::ReportView;
 use crate::components::scenario_form::ScenarioForm;
 use crate::components::schedule_table::ScheduleTable;
+use crate::components::sweep_panel::SweepPanel;
 use crate::components::toolbar::{open_file, Toolbar};
-use crate::figures::Figure;
+use crate::components::variants_panel::VariantsPanel;
+use crate::components::view_tabs::ViewTabs;
+use crate::figures::{Figure, Shared};
 use crate::state::{Action, Run, View, Workbench};
 use crate::{browser, share};
 

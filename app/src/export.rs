@@ -98,7 +98,12 @@ pub fn plan_csv(plan: &Plan) -> String {
 
 /// One row per equilibrium per value; long-run min and max alongside.
 pub fn line_csv(sweep: &LineSweep, species: &[String]) -> String {
-    let mut header = vec![sweep.axis.param.clone(), "branch".into(), "stability".into(), "feasible".into()];
+    let mut header = vec![
+        sweep.axis.param.clone(),
+        "branch".into(),
+        "stability".into(),
+        "feasible".into(),
+    ];
     for s in species {
         header.push(format!("{s} equilibrium"));
     }
@@ -211,7 +216,14 @@ pub fn founders_csv(table: &EstablishmentTable) -> String {
 
 pub fn fit_csv(fit: &FitResult) -> String {
     let mut t = Table::new(&names(&[
-        "name", "label", "estimate", "se", "ci_low", "ci_high", "lower_bound", "upper_bound",
+        "name",
+        "label",
+        "estimate",
+        "se",
+        "ci_low",
+        "ci_high",
+        "lower_bound",
+        "upper_bound",
     ]));
     for e in &fit.estimates {
         t.row(&[
@@ -252,7 +264,10 @@ mod tests {
         let last = rows.last().unwrap();
         assert_eq!(last[0].parse::<f64>().unwrap(), b.run.problem.t_end);
         // Exact round trip of every value.
-        assert_eq!(last[1].parse::<f64>().unwrap(), b.run.trajectory.states.last().unwrap()[0]);
+        assert_eq!(
+            last[1].parse::<f64>().unwrap(),
+            b.run.trajectory.states.last().unwrap()[0]
+        );
     }
 
     #[test]
@@ -284,7 +299,12 @@ mod tests {
             seed: 2,
             ..Default::default()
         };
-        let table = tussock_core::stochastic::establishment(&s.validate().unwrap(), &request, &mut |_, _| true).unwrap();
+        let table = tussock_core::stochastic::establishment(
+            &s.validate().unwrap(),
+            &request,
+            &mut |_, _| true,
+        )
+        .unwrap();
         let (header, rows) = read(&founders_csv(&table));
         assert_eq!(header[0], "founders");
         assert_eq!(rows.len(), 4);

@@ -195,7 +195,9 @@ impl Figure {
             Figure::ResponseCurves { .. } => "release-response".to_string(),
             Figure::ReleaseTiming { .. } => "release-timing".to_string(),
             Figure::Bifurcation { param, .. } => format!("sweep-{param}"),
-            Figure::OutcomeMap { map, .. } => format!("outcome-map-{}-{}", map.x.param, map.y.param),
+            Figure::OutcomeMap { map, .. } => {
+                format!("outcome-map-{}-{}", map.x.param, map.y.param)
+            }
             Figure::Fan {
                 summary, species, ..
             } => format!(
@@ -393,7 +395,16 @@ fn unit_suffix(plan: &Plan) -> &'static str {
 
 /// A probability as a percentage, e.g. `12.5%`.
 pub fn percent(p: f64) -> String {
-    format!("{}%", round_sig(100.0 * p, 3))
+    // Interval ends computed as 0 or 1 can carry rounding noise (1e-19).
+    let v = 100.0 * p;
+    let v = if v.abs() < 1e-9 {
+        0.0
+    } else if (v - 100.0).abs() < 1e-9 {
+        100.0
+    } else {
+        v
+    };
+    format!("{}%", round_sig(v, 3))
 }
 
 /// Index of the value nearest to `x`.
@@ -413,7 +424,11 @@ pub fn map_cell(map: &OutcomeMap, x: f64, y: f64) -> Option<&MapCell> {
         values
             .iter()
             .enumerate()
-            .min_by(|a, b| (key(*a.1) - key(v)).abs().total_cmp(&(key(*b.1) - key(v)).abs()))
+            .min_by(|a, b| {
+                (key(*a.1) - key(v))
+                    .abs()
+                    .total_cmp(&(key(*b.1) - key(v)).abs())
+            })
             .map(|(i, _)| i)
     };
     let log = |spacing| matches!(spacing, tussock_core::sweep::Spacing::Log);
@@ -454,7 +469,12 @@ mod tests {
         let doc = roxmltree::Document::parse(svg).expect("the SVG parses as XML");
         doc.descendants()
             .filter(|n| n.has_tag_name("polyline") && n.attribute("stroke") == Some(colour))
-            .map(|n| n.attribute("points").unwrap_or("").split_whitespace().count())
+            .map(|n| {
+                n.attribute("points")
+                    .unwrap_or("")
+                    .split_whitespace()
+                    .count()
+            })
             .collect()
     }
 
@@ -469,12 +489,18 @@ mod tests {
         .to_svg()
         .unwrap();
         for name in &bench.run.problem.species {
-            assert!(svg.contains(name.as_str()), "{name} missing from the legend");
+            assert!(
+                svg.contains(name.as_str()),
+                "{name} missing from the legend"
+            );
         }
         let n = bench.run.trajectory.times.len();
         // The first species is one solid line through every output time.
         let first = polylines(&svg, "#0072B2");
-        assert!(first.contains(&n), "no single line of {n} points: {first:?}");
+        assert!(
+            first.contains(&n),
+            "no single line of {n} points: {first:?}"
+        );
         // The second is dashed: its dashes together span the whole series.
         let second = polylines(&svg, "#D55E00");
         assert!(second.len() > 10, "second species should be dashed");
@@ -531,6 +557,13 @@ mod tests {
         let text = figure.describe_point(880.0, 120.0);
         assert!(text.contains("only green alga"), "{text}");
         assert_eq!(figure.file_stem(), "outcome-map-k1-k2");
+    }
+
+    #[test]
+    fn percentages_hide_rounding_noise() {
+        assert_eq!(percent(8.56e-19), "0%");
+        assert_eq!(percent(1.0 - 1e-16), "100%");
+        assert_eq!(percent(0.1234), "12.3%");
     }
 
     #[test]

@@ -13,8 +13,9 @@ use web_sys::{ErrorEvent, MessageEvent, Worker};
 
 use crate::jobs::{self, Job, TaskKind, Update};
 
-/// The worker's loader script, written by trunk next to the page.
-pub const WORKER_SCRIPT: &str = "./tussock-worker_loader.js";
+/// The worker's loader script (`static/worker-loader.js`, copied next to
+/// the page by trunk).
+pub const WORKER_SCRIPT: &str = "./worker-loader.js";
 
 struct Slot {
     worker: Worker,

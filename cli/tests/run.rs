@@ -21,7 +21,10 @@ fn tussock(args: &[&str]) -> Output {
 fn run_on(contents: &[u8]) -> (bool, String, String) {
     let dir = std::env::temp_dir().join(format!("tussock-cli-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
-    let file = dir.join(format!("s{}.json", contents.len()));
+    // One file per call: tests run in parallel and must not share files.
+    static NEXT: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+    let n = NEXT.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+    let file = dir.join(format!("s{n}.json"));
     std::fs::write(&file, contents).unwrap();
     let out = tussock(&["run", file.to_str().unwrap()]);
     let _ = std::fs::remove_file(&file);

@@ -4,8 +4,8 @@
 
 use tussock_core::analysis::round_sig;
 use tussock_core::stochastic::{
-    EnsembleOptions, EnsembleSummary, EnvironmentalNoise, EstablishmentRequest,
-    EstablishmentTable, Method, StochasticOptions,
+    EnsembleOptions, EnsembleSummary, EnvironmentalNoise, EstablishmentRequest, EstablishmentTable,
+    Method, StochasticOptions,
 };
 use tussock_core::Scenario;
 use web_sys::HtmlSelectElement;
@@ -106,13 +106,14 @@ impl ChanceForm {
 
     pub fn founders(&self) -> Result<Task, (&'static str, String)> {
         let (runs, seed) = self.runs_and_seed()?;
-        let whole = |id: &'static str, text: &str, hi: u64| -> Result<Vec<u64>, (&'static str, String)> {
-            parse_list(text)
-                .map_err(|e| (id, e))?
-                .into_iter()
-                .map(|v| parse_count(&format_number(v), 1, hi).map_err(|e| (id, e)))
-                .collect()
-        };
+        let whole =
+            |id: &'static str, text: &str, hi: u64| -> Result<Vec<u64>, (&'static str, String)> {
+                parse_list(text)
+                    .map_err(|e| (id, e))?
+                    .into_iter()
+                    .map(|v| parse_count(&format_number(v), 1, hi).map_err(|e| (id, e)))
+                    .collect()
+            };
         Ok(Task::Founders {
             request: EstablishmentRequest {
                 species: self.founder_species,
@@ -333,9 +334,9 @@ pub fn chance_panel(props: &ChancePanelProps) -> Html {
                         <option value="tau_leap" selected={form.method == Method::TauLeap}>{ "tau-leaping throughout" }</option>
                     </select>
                 </div>
-                <Setting id="chance-noise" label="Year-to-year noise on birth rates (SD of log)" value={form.noise.clone()} error={err_for("chance-noise")}
+                <Setting id="chance-noise" label={format!("Noise on birth rates (SD of log, per {})", problem.time_unit.trim_end_matches('s'))} value={form.noise.clone()} error={err_for("chance-noise")}
                     help="Empty for none; 0.2 means birth rates typically vary by about ±20% per time unit." on_change={update(|f, v| f.noise = v)} />
-                <Setting id="chance-rho" label="…correlation from one time unit to the next" value={form.autocorrelation.clone()} error={err_for("chance-rho")} on_change={update(|f, v| f.autocorrelation = v)} />
+                <Setting id="chance-rho" label={format!("…correlation from one {} to the next", problem.time_unit.trim_end_matches('s'))} value={form.autocorrelation.clone()} error={err_for("chance-rho")} on_change={update(|f, v| f.autocorrelation = v)} />
                 if problem.thresholds.economic_threshold.is_some() {
                     <Setting id="chance-pest-day" label={format!("Pest under its threshold on day ({})", problem.time_unit)} value={form.pest_day.clone()} error={err_for("chance-pest-day")}
                         help="Empty for the horizon" on_change={update(|f, v| f.pest_day = v)} />
@@ -404,11 +405,17 @@ mod tests {
             unreachable!()
         };
         options.runs = 40;
-        let summary =
-            tussock_core::stochastic::run_ensemble(&s.validate().unwrap(), &options, &mut |_, _| true)
-                .unwrap();
+        let summary = tussock_core::stochastic::run_ensemble(
+            &s.validate().unwrap(),
+            &options,
+            &mut |_, _| true,
+        )
+        .unwrap();
         let text = risk_sentences(&summary).join("\n");
-        assert!(text.contains("reintroduced marten dies out by 60 years in"), "{text}");
+        assert!(
+            text.contains("reintroduced marten dies out by 60 years in"),
+            "{text}"
+        );
         assert!(text.contains("95% interval"), "{text}");
     }
 }

@@ -69,7 +69,9 @@ impl FitForm {
                     label: p.name.to_string(),
                     on: match last {
                         Some(_) => e.is_some(),
-                        None => !p.optional && (p.symbol.starts_with('r') || p.symbol.starts_with('K')),
+                        None => {
+                            !p.optional && (p.symbol.starts_with('r') || p.symbol.starts_with('K'))
+                        }
                     },
                     lower: bound(e.and_then(|e| e.lower)),
                     upper: bound(e.and_then(|e| e.upper)),
@@ -92,7 +94,7 @@ impl FitForm {
             objective: last.map(|r| r.objective).unwrap_or_default(),
             starts: last.map_or("20".into(), |r| r.starts.to_string()),
             seed: last.map_or("1".into(), |r| r.seed.to_string()),
-            profiles: last.map_or(true, |r| r.profiles),
+            profiles: last.is_none_or(|r| r.profiles),
         }
     }
 
@@ -180,7 +182,8 @@ pub fn fit_panel(props: &FitPanelProps) -> Html {
         let unit = problem.time_unit.clone();
         move |t: &str| {
             preview.set(Some(
-                read_counts(t, &species, &unit, &ImportOptions::default()).map_err(|e| e.to_string()),
+                read_counts(t, &species, &unit, &ImportOptions::default())
+                    .map_err(|e| e.to_string()),
             ))
         }
     };
@@ -207,7 +210,10 @@ pub fn fit_panel(props: &FitPanelProps) -> Html {
             };
             input.set_value("");
             if file.size() > MAX_CSV_BYTES {
-                preview.set(Some(Err(format!("{} is over 2 MB: too large for a table of counts.", file.name()))));
+                preview.set(Some(Err(format!(
+                    "{} is over 2 MB: too large for a table of counts.",
+                    file.name()
+                ))));
                 return;
             }
             let text = text.clone();
@@ -359,7 +365,9 @@ pub fn fit_panel(props: &FitPanelProps) -> Html {
         time_unit: problem.time_unit.clone(),
     };
     let saved = bench.scenario.fit.clone();
-    let fit_rc = use_memo(saved.as_ref().map(|f| f.result.clone()), |r| r.clone().map(Shared::new));
+    let fit_rc = use_memo(saved.as_ref().map(|f| f.result.clone()), |r| {
+        r.clone().map(Shared::new)
+    });
     let results = (*fit_rc).clone().map(|fit: Shared<FitResult>| {
         let on_use = {
             let d = d.clone();
@@ -432,7 +440,7 @@ pub fn fit_panel(props: &FitPanelProps) -> Html {
             <div class="import">
                 <label for="fit-csv">{ "Counts (CSV)" }</label>
                 <textarea id="fit-csv" rows="6" spellcheck="false" value={(*text).clone()} oninput={on_text}
-                    placeholder={format!("day,{}\n0,20,2\n7,45,3", problem.species.join(","))}></textarea>
+                    placeholder={format!("day,{}\n0,20,2\n7,45,3", problem.species.join(","))} />
                 <div class="toolbar">
                     <button id="fit-read" type="button" onclick={on_read}>{ "Read the pasted table" }</button>
                     <label class="button" for="fit-file">{ "Open a CSV file" }</label>
@@ -479,7 +487,12 @@ mod tests {
         let text = r#"{"model": "competition", "params": {"r1": 0.8, "r2": 0.5, "K1": 600, "K2": 400, "alpha12": 0.6, "alpha21": 0.9}, "initial": [20, 20], "t_end": 80}"#;
         let s = Scenario::from_json(text).unwrap();
         let form = FitForm::from_scenario(&s);
-        let on: Vec<&str> = form.choices.iter().filter(|c| c.on).map(|c| c.name.as_str()).collect();
+        let on: Vec<&str> = form
+            .choices
+            .iter()
+            .filter(|c| c.on)
+            .map(|c| c.name.as_str())
+            .collect();
         assert_eq!(on, ["r1", "r2", "K1", "K2"]);
         assert!(form.choices.iter().any(|c| c.name == "init2"));
         let request = form.request().unwrap();

@@ -79,7 +79,12 @@ impl PlanForm {
             until: format_number(s.t_end),
             species: n_species.saturating_sub(1),
             ratio: n_species == 2 && has_threshold,
-            max: if n_species == 2 && has_threshold { "1" } else { "100" }.to_string(),
+            max: if n_species == 2 && has_threshold {
+                "1"
+            } else {
+                "100"
+            }
+            .to_string(),
             times: "0".to_string(),
             counts: "1, 2, 3".to_string(),
             every: "7".to_string(),
@@ -420,7 +425,10 @@ mod tests {
     fn the_form_gives_a_request_or_names_the_bad_setting() {
         let s = scenario();
         let form = PlanForm::from_scenario(&s, 2);
-        assert!(!form.persist, "a scenario with a threshold plans for the pest");
+        assert!(
+            !form.persist,
+            "a scenario with a threshold plans for the pest"
+        );
         let request = form.request(2).unwrap();
         assert_eq!(request.unit, SizeUnit::RatioToOther);
         assert_eq!(request.counts, vec![1, 2, 3]);
@@ -454,6 +462,9 @@ mod tests {
         let traj = tussock_core::solve(&problem);
         let margin = tussock_core::plan::margin(&problem, &request.goal, best.time, &traj);
         assert!(margin > 0.0, "margin {margin}");
-        assert_eq!(size_text(0.05, SizeUnit::RatioToOther, "prey"), "0.05 per prey (1:20)");
+        assert_eq!(
+            size_text(0.05, SizeUnit::RatioToOther, "prey"),
+            "0.05 per prey (1:20)"
+        );
     }
 }

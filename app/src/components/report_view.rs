@@ -57,7 +57,11 @@ pub fn report_view(props: &ReportViewProps) -> Html {
         } else {
             ""
         };
-        let partial = if outcome.is_partial() { " (partial)" } else { "" };
+        let partial = if outcome.is_partial() {
+            " (partial)"
+        } else {
+            ""
+        };
         let lines: Vec<String> = match (outcome, &slot.task) {
             (Outcome::Plan(plan), Task::Plan { request }) => {
                 vec![answer(plan, &p.species, request.species, &p.time_unit)]
@@ -65,7 +69,10 @@ pub fn report_view(props: &ReportViewProps) -> Html {
             (Outcome::Line(sweep), _) => {
                 let b = bifurcation_sentences(sweep);
                 if b.is_empty() {
-                    vec![format!("No change of stability as {} varies over the range swept.", sweep.axis.param)]
+                    vec![format!(
+                        "No change of stability as {} varies over the range swept.",
+                        sweep.axis.param
+                    )]
                 } else {
                     b
                 }
@@ -79,8 +86,15 @@ pub fn report_view(props: &ReportViewProps) -> Html {
                         "{} founders in {} release(s): established in {} of runs{}.",
                         r.founders,
                         r.releases,
-                        r.probability.map(crate::figures::percent).unwrap_or_else(|| "–".into()),
-                        r.ci.map(|[lo, hi]| format!(" (95% interval {} to {})", crate::figures::percent(lo), crate::figures::percent(hi))).unwrap_or_default()
+                        r.probability
+                            .map(crate::figures::percent)
+                            .unwrap_or_else(|| "–".into()),
+                        r.ci.map(|[lo, hi]| format!(
+                            " (95% interval {} to {})",
+                            crate::figures::percent(lo),
+                            crate::figures::percent(hi)
+                        ))
+                        .unwrap_or_default()
                     )
                 })
                 .collect(),

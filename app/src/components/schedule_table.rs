@@ -167,9 +167,14 @@ pub fn describe_event(
     time_unit: &str,
 ) -> String {
     let name = species.get(e.species).map_or("?", String::as_str);
-    let other = species.get(1 - e.species.min(1)).map_or("?", String::as_str);
+    let other = species
+        .get(1 - e.species.min(1))
+        .map_or("?", String::as_str);
     let what = match EventKind::of(e) {
-        EventKind::Release => format!("release {} {name}", crate::state::format_number(e.add.unwrap_or(0.0))),
+        EventKind::Release => format!(
+            "release {} {name}",
+            crate::state::format_number(e.add.unwrap_or(0.0))
+        ),
         EventKind::ReleaseRatio => format!(
             "release {} {name} per {other}",
             crate::state::format_number(e.add_ratio.unwrap_or(0.0))
@@ -202,7 +207,11 @@ pub fn describe_event(
         ),
         _ => String::new(),
     };
-    let label = e.label.as_ref().map(|l| format!(" ({l})")).unwrap_or_default();
+    let label = e
+        .label
+        .as_ref()
+        .map(|l| format!(" ({l})"))
+        .unwrap_or_default();
     format!(
         "t = {} {time_unit}: {what}{repeat}{label}",
         crate::state::format_number(e.time)

@@ -194,6 +194,35 @@ pub fn setting(props: &SettingProps) -> Html {
     }
 }
 
+#[derive(Properties, PartialEq)]
+pub struct CsvButtonProps {
+    pub id: AttrValue,
+    /// File name offered, with `.csv`.
+    pub file: AttrValue,
+    /// Makes the table when clicked (not on every render).
+    pub make: Callback<(), String>,
+    #[prop_or(AttrValue::from("Download table (CSV)"))]
+    pub label: AttrValue,
+}
+
+/// A button that downloads a table as CSV.
+#[function_component(CsvButton)]
+pub fn csv_button(props: &CsvButtonProps) -> Html {
+    let onclick = {
+        let make = props.make.clone();
+        let file = props.file.clone();
+        Callback::from(move |_: MouseEvent| {
+            let text = make.emit(());
+            if let Err(e) = crate::browser::download(&file, "text/csv", &text) {
+                web_sys::console::warn_1(&format!("download failed: {e}").into());
+            }
+        })
+    };
+    html! {
+        <button id={props.id.clone()} type="button" class="small csv" {onclick}>{ props.label.clone() }</button>
+    }
+}
+
 /// Parse `0, 7, 14` (or `0; 7; 14` with decimal commas) into numbers.
 pub fn parse_list(text: &str) -> Result<Vec<f64>, String> {
     let separator = if text.contains(';') { ';' } else { ',' };

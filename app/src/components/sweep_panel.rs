@@ -5,7 +5,7 @@
 use tussock_core::analysis::round_sig;
 use tussock_core::model::ModelSpec;
 use tussock_core::sweep::line::{BifurcationKind, LineRequest, LineSweep};
-use tussock_core::sweep::map::MapRequest;
+use tussock_core::sweep::map::{MapRequest, OutcomeClass};
 use tussock_core::sweep::{AxisSpec, Spacing, SweepOptions};
 use tussock_core::Scenario;
 use web_sys::{HtmlInputElement, HtmlSelectElement};
@@ -88,6 +88,18 @@ pub struct SweepForm {
     pub species: usize,
 }
 
+/// A change to the form from one field's new value.
+type Edit<T> = Box<dyn Fn(&mut SweepForm, T)>;
+
+/// The axis a form field belongs to: `y` for the map's second parameter.
+fn side(f: &mut SweepForm, y: bool) -> &mut AxisForm {
+    if y {
+        &mut f.y
+    } else {
+        &mut f.x
+    }
+}
+
 impl SweepForm {
     pub fn from_scenario(model: &ModelSpec, s: &Scenario) -> SweepForm {
         let studies = s.studies.as_ref();
@@ -149,27 +161,27 @@ pub fn bifurcation_sentences(sweep: &LineSweep) -> Vec<String> {
         .iter()
         .map(|b| {
             let what = match b.kind {
-                BifurcationKind::Hopf => "Hopf point: the equilibrium gives way to cycles (or back)",
+                BifurcationKind::Hopf => {
+                    "Hopf point: the equilibrium gives way to cycles (or back)"
+                }
                 BifurcationKind::Transcritical => {
                     "transcritical point: two equilibria cross and exchange stability"
                 }
-                BifurcationKind::SaddleNode => {
-                    "saddle-node point: two equilibria meet and vanish"
-                }
+                BifurcationKind::SaddleNode => "saddle-node point: two equilibria meet and vanish",
             };
-            format!(
-                "{} = {} — {what}",
-                sweep.axis.param,
-                round_sig(b.value, 6)
-            )
+            format!("{} = {} — {what}", sweep.axis.param, round_sig(b.value, 6))
         })
         .collect()
 }
 
-/// CSS colour of an outcome class for the HTML legend.
-fn css(class: tussock_core::sweep::map::OutcomeClass) -> String {
-    let c = tussock_charts::class_colour(class);
-    format!("rgb({}, {}, {})", c.0, c.1, c.2)
+/// The CSS class of an outcome class's legend swatch (`static/style.css`
+/// colours it; no inline styles, so the page's CSP can forbid them).
+pub fn swatch_class(class: OutcomeClass) -> String {
+    let key = serde_json::to_value(class)
+        .ok()
+        .and_then(|v| v.as_str().map(str::to_string))
+        .unwrap_or_default();
+    format!("class-{key}")
 }
 
 #[derive(Properties, PartialEq)]
@@ -203,7 +215,7 @@ pub fn sweep_panel(props: &SweepPanelProps) -> Html {
             .filter(|(i, _)| i == id)
             .map(|(_, m)| AttrValue::from(m.clone()))
     };
-    let update = |f: fn(&mut SweepForm, String)| {
+    let update = |f: Edit<String>| {
         let form = form.clone();
         Callback::from(move |v: String| {
             let mut next = (*form).clone();
@@ -211,7 +223,7 @@ pub fn sweep_panel(props: &SweepPanelProps) -> Html {
             form.set(next);
         })
     };
-    let on_select = |f: fn(&mut SweepForm, String)| {
+    let on_select = |f: Edit<String>| {
         let form = form.clone();
         Callback::from(move |e: Event| {
             let sel: HtmlSelectElement = e.target_unchecked_into();
@@ -220,7 +232,7 @@ pub fn sweep_panel(props: &SweepPanelProps) -> Html {
             form.set(next);
         })
     };
-    let on_check = |f: fn(&mut SweepForm, bool)| {
+    let on_check = |f: Edit<bool>| {
         let form = form.clone();
         Callback::from(move |e: Event| {
             let input: HtmlInputElement = e.target_unchecked_into();
@@ -255,29 +267,11 @@ pub fn sweep_panel(props: &SweepPanelProps) -> Html {
             .collect::<Html>()
     };
     let axis_fields = |prefix: &'static str, axis: &AxisForm, which: bool| {
-        let (on_param, on_from, on_to, on_steps, on_log): (
-            Callback<Event>,
-            Callback<String>,
-            Callback<String>,
-            Callback<String>,
-            Callback<Event>,
-        ) = if which {
-            (
-                on_select(|f, v| f.y.param = v),
-                update(|f, v| f.y.from = v),
-                update(|f, v| f.y.to = v),
-                update(|f, v| f.y.steps = v),
-                on_check(|f, v| f.y.log = v),
-            )
-        } else {
-            (
-                on_select(|f, v| f.x.param = v),
-                update(|f, v| f.x.from = v),
-                update(|f, v| f.x.to = v),
-                update(|f, v| f.x.steps = v),
-                on_check(|f, v| f.x.log = v),
-            )
-        };
+        let on_param = on_select(Box::new(move |f, v| side(f, which).param = v));
+        let on_from = update(Box::new(move |f, v| side(f, which).from = v));
+        let on_to = update(Box::new(move |f, v| side(f, which).to = v));
+        let on_steps = update(Box::new(move |f, v| side(f, which).steps = v));
+        let on_log = on_check(Box::new(move |f, v| side(f, which).log = v));
         html! {
             <fieldset>
                 <legend>{ if which { "Up the side" } else { "Along the bottom" } }</legend>
@@ -336,7 +330,7 @@ pub fn sweep_panel(props: &SweepPanelProps) -> Html {
             <>
             <div class="chart-head">
                 <h3>{ format!("Long-run densities against {param}") }</h3>
-                <label>{ "Show " }<select id="sweep-species" onchange={on_select(|f, v| f.species = v.parse().unwrap_or(0))}>{ for species_options }</select></label>
+                <label>{ "Show " }<select id="sweep-species" onchange={on_select(Box::new(|f, v| f.species = v.parse().unwrap_or(0)))}>{ for species_options }</select></label>
             </div>
             <ChartCanvas id="chart-bifurcation" figure={Figure::Bifurcation { sweep: Shared(sweep.clone()), labels: labels.clone(), species: form.species.min(labels.species.len().saturating_sub(1)), param: param.clone() }}
                 summary={AttrValue::from(summary)} on_click={on_click} />
@@ -368,7 +362,7 @@ pub fn sweep_panel(props: &SweepPanelProps) -> Html {
             .iter()
             .map(|c| {
                 let n = map.rows.iter().flat_map(|r| &r.cells).filter(|cell| cell.class == *c).count();
-                (css(*c), tussock_charts::class_label(*c, &labels.species), n)
+                (swatch_class(*c), tussock_charts::class_label(*c, &labels.species), n)
             })
             .collect();
         let cells: usize = map.rows.iter().map(|r| r.cells.len()).sum();
@@ -385,7 +379,7 @@ pub fn sweep_panel(props: &SweepPanelProps) -> Html {
                 summary={AttrValue::from(summary)} on_click={on_click} />
             <ul class="legend" id="map-legend">
                 { for counted.iter().map(|(colour, label, n)| html! {
-                    <li><span class="swatch" style={format!("background: {colour}")}></span>{ format!("{label} ({n} cells)") }</li>
+                    <li><span class={classes!("swatch", colour.clone())}></span>{ format!("{label} ({n} cells)") }</li>
                 }) }
             </ul>
             <p class="key">{ "Black lines: where the outcome changes by formula. Hover to read a cell; click to use its values." }</p>
@@ -399,7 +393,7 @@ pub fn sweep_panel(props: &SweepPanelProps) -> Html {
             <form class="study-form" onsubmit={on_run}>
                 <div class="setting">
                     <label for="sweep-mode">{ "Sweep" }</label>
-                    <select id="sweep-mode" onchange={on_select(|f, v| f.two = v == "two")}>
+                    <select id="sweep-mode" onchange={on_select(Box::new(|f, v| f.two = v == "two"))}>
                         <option value="one" selected={!form.two}>{ "one parameter (bifurcation diagram)" }</option>
                         <option value="two" selected={form.two}>{ "two parameters (outcome map)" }</option>
                     </select>
@@ -453,6 +447,31 @@ mod tests {
     }
 
     #[test]
+    fn legend_swatches_have_the_map_colours() {
+        let css = include_str!("../../../static/style.css");
+        for class in [
+            OutcomeClass::Extinct,
+            OutcomeClass::OnlySpecies1,
+            OutcomeClass::OnlySpecies2,
+            OutcomeClass::Coexistence,
+            OutcomeClass::LimitCycle,
+            OutcomeClass::FounderControl,
+            OutcomeClass::Unbounded,
+            OutcomeClass::Unresolved,
+        ] {
+            let c = tussock_charts::class_colour(class);
+            let rule = format!(
+                ".swatch.{} {{ background: rgb({}, {}, {}); }}",
+                swatch_class(class),
+                c.0,
+                c.1,
+                c.2
+            );
+            assert!(css.contains(&rule), "missing or different: {rule}");
+        }
+    }
+
+    #[test]
     fn bifurcations_are_described_with_their_values() {
         // Rosenzweig–MacArthur over K: the predator's transcritical point
         // at N* and the Hopf point at K_H (Rosenzweig 1971).
@@ -471,9 +490,20 @@ mod tests {
         };
         let sweep =
             tussock_core::sweep::line::sweep_line(&problem, &request, &mut |_, _| true).unwrap();
-        let text = bifurcation_sentences(&sweep).join("\n");
-        let k_h = tussock_core::models::rosenzweig_macarthur::hopf_threshold(&problem.params).unwrap();
-        assert!(text.contains("Hopf point"), "{text}");
-        assert!(text.contains(&round_sig(k_h, 4)[..4]), "{text} vs {k_h}");
+        let k_h =
+            tussock_core::models::rosenzweig_macarthur::hopf_threshold(&problem.params).unwrap();
+        let sentences = bifurcation_sentences(&sweep);
+        let hopf = sentences
+            .iter()
+            .find(|t| t.contains("Hopf point"))
+            .unwrap_or_else(|| panic!("no Hopf point in {sentences:?}"));
+        let value: f64 = hopf
+            .trim_start_matches("K = ")
+            .split(' ')
+            .next()
+            .unwrap()
+            .parse()
+            .unwrap();
+        assert!((value - k_h).abs() / k_h < 1e-5, "{hopf} vs K_H = {k_h}");
     }
 }

@@ -41,11 +41,13 @@ pub fn metric_cells(run: &Run) -> Vec<String> {
                     .map(|v| round_sig(v, 4))
                     .unwrap_or_else(|| "never".into()),
             );
-            out.push(match (pest.first_above_threshold, pest.below_threshold_from) {
-                (None, _) => "throughout".into(),
-                (_, Some(from)) => round_sig(from, 4),
-                (_, None) => "still above at the end".into(),
-            });
+            out.push(
+                match (pest.first_above_threshold, pest.below_threshold_from) {
+                    (None, _) => "throughout".into(),
+                    (_, Some(from)) => round_sig(from, 4),
+                    (_, None) => "still above at the end".into(),
+                },
+            );
             out.push(round_sig(pest.time_above_threshold, 3));
         }
         None => out.extend(["–".to_string(), "–".to_string(), "–".to_string()]),
@@ -155,9 +157,15 @@ pub fn variants_panel(props: &VariantsPanelProps) -> Html {
         "pest below its threshold from".to_string(),
         format!("time above the threshold ({})", p.time_unit),
         format!("peak {} (when)", p.species[0]),
-        format!("peak {} (when)", p.species.get(1).cloned().unwrap_or_default()),
+        format!(
+            "peak {} (when)",
+            p.species.get(1).cloned().unwrap_or_default()
+        ),
         format!("lowest {} (when)", p.species[0]),
-        format!("lowest {} (when)", p.species.get(1).cloned().unwrap_or_default()),
+        format!(
+            "lowest {} (when)",
+            p.species.get(1).cloned().unwrap_or_default()
+        ),
         "individuals released".to_string(),
         "in the long run".to_string(),
     ];
@@ -218,8 +226,14 @@ mod tests {
         let mut broken = s.clone();
         broken.t_end = -1.0;
         let runs = variant_runs(&[
-            Variant { name: "one release".into(), scenario: Box::new(one) },
-            Variant { name: "broken".into(), scenario: Box::new(broken) },
+            Variant {
+                name: "one release".into(),
+                scenario: Box::new(one),
+            },
+            Variant {
+                name: "broken".into(),
+                scenario: Box::new(broken),
+            },
         ]);
         let run = runs[0].1.as_ref().unwrap();
         assert!(runs[1].1.as_ref().unwrap_err().contains("t_end"));
