@@ -485,8 +485,7 @@ impl Scenario {
         let schedule = Schedule::from_specs(&self.events, n, &species, self.t_end)?;
         let thresholds = Thresholds::from_spec(self.thresholds.as_ref(), n)?;
         if let Some(data) = &self.data {
-            data.validate(n)
-                .map_err(|e| invalid(e.path, e.reason))?;
+            data.validate(n).map_err(|e| invalid(e.path, e.reason))?;
         }
         self.validate_variants()?;
 
@@ -514,13 +513,19 @@ impl Scenario {
         if self.variants.len() > MAX_VARIANTS {
             return Err(invalid(
                 "variants",
-                format!("at most {MAX_VARIANTS} variants, got {}", self.variants.len()),
+                format!(
+                    "at most {MAX_VARIANTS} variants, got {}",
+                    self.variants.len()
+                ),
             ));
         }
         for (i, v) in self.variants.iter().enumerate() {
             let path = format!("variants[{i}]");
             if v.name.trim().is_empty() || v.name.chars().count() > 80 {
-                return Err(invalid(format!("{path}.name"), "must be 1 to 80 characters"));
+                return Err(invalid(
+                    format!("{path}.name"),
+                    "must be 1 to 80 characters",
+                ));
             }
             let inner = &v.scenario;
             if !inner.variants.is_empty()
@@ -534,7 +539,9 @@ impl Scenario {
                 ));
             }
             inner.validate().map_err(|e| match e {
-                ScenarioError::Invalid { path: p, reason } => invalid(format!("{path}.scenario.{p}"), reason),
+                ScenarioError::Invalid { path: p, reason } => {
+                    invalid(format!("{path}.scenario.{p}"), reason)
+                }
                 other => invalid(format!("{path}.scenario"), other.to_string()),
             })?;
         }

@@ -14,11 +14,9 @@ fn fixture(version: u32, name: &str) -> String {
 }
 
 fn example(name: &str) -> Scenario {
-    let text = std::fs::read_to_string(format!(
-        "{}/../examples/{name}",
-        env!("CARGO_MANIFEST_DIR")
-    ))
-    .unwrap();
+    let text =
+        std::fs::read_to_string(format!("{}/../examples/{name}", env!("CARGO_MANIFEST_DIR")))
+            .unwrap();
     Scenario::from_json(&text).unwrap()
 }
 
@@ -38,7 +36,11 @@ fn every_stored_format_1_file_loads_as_its_current_example() {
         let old = Scenario::from_json(&fixture(1, &name)).unwrap();
         assert_eq!(old.format, Some(FORMAT_VERSION), "{name} not migrated");
         old.validate().unwrap();
-        assert_eq!(old, example(&name), "{name} differs from its current example");
+        assert_eq!(
+            old,
+            example(&name),
+            "{name} differs from its current example"
+        );
         seen += 1;
     }
     assert!(seen >= 4);
@@ -55,7 +57,8 @@ fn newer_and_nonsense_versions_are_refused_with_a_message() {
         })
     );
     for bad in ["0", "-1", "1.5", "\"two\""] {
-        let text = format!(r#"{{"format": {bad}, "model": "logistic", "initial": [1], "t_end": 1}}"#);
+        let text =
+            format!(r#"{{"format": {bad}, "model": "logistic", "initial": [1], "t_end": 1}}"#);
         assert!(error(&text).starts_with("format:"), "{bad}");
     }
 }
@@ -63,7 +66,11 @@ fn newer_and_nonsense_versions_are_refused_with_a_message() {
 #[test]
 fn unknown_fields_are_reported_not_dropped() {
     let text = r#"{"model": "logistic", "params": {"b": 1, "d": 0.1, "K": 10}, "initial": [1], "t_end": 1, "colour": "red"}"#;
-    assert!(error(text).contains("unknown field `colour`"), "{}", error(text));
+    assert!(
+        error(text).contains("unknown field `colour`"),
+        "{}",
+        error(text)
+    );
 }
 
 #[test]
@@ -85,7 +92,11 @@ fn variants_are_checked_and_round_trip() {
         name: "inner".into(),
         scenario: Box::new(base.clone()),
     });
-    assert!(nested.validate().unwrap_err().to_string().starts_with("variants[0].scenario:"));
+    assert!(nested
+        .validate()
+        .unwrap_err()
+        .to_string()
+        .starts_with("variants[0].scenario:"));
 
     let mut bad = with.clone();
     bad.variants[0].scenario.t_end = -3.0;
@@ -96,7 +107,11 @@ fn variants_are_checked_and_round_trip() {
 
     let mut unnamed = with.clone();
     unnamed.variants[0].name = "  ".into();
-    assert!(unnamed.validate().unwrap_err().to_string().starts_with("variants[0].name:"));
+    assert!(unnamed
+        .validate()
+        .unwrap_err()
+        .to_string()
+        .starts_with("variants[0].name:"));
 
     let mut many = with.clone();
     for i in 0..MAX_VARIANTS {
@@ -105,7 +120,11 @@ fn variants_are_checked_and_round_trip() {
             scenario: Box::new(other.clone()),
         });
     }
-    assert!(many.validate().unwrap_err().to_string().starts_with("variants:"));
+    assert!(many
+        .validate()
+        .unwrap_err()
+        .to_string()
+        .starts_with("variants:"));
 }
 
 #[test]
