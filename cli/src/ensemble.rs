@@ -6,6 +6,9 @@
 use std::path::PathBuf;
 
 use anyhow::{bail, Result};
+
+use crate::out::{self, OutDir};
+use crate::tables;
 use rayon::prelude::*;
 use tussock_core::analysis::round_sig;
 use tussock_core::stochastic::{
@@ -64,6 +67,10 @@ pub struct EnsembleArgs {
     /// Most intervals of the summary's time grid.
     #[arg(long, default_value_t = 200)]
     intervals: usize,
+    /// Also write ensemble-summary.csv, a fan-SPECIES.svg per species and
+    /// extinction.svg into DIR, made if missing.
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
 }
 
 #[derive(clap::Args)]
@@ -93,6 +100,9 @@ pub struct FoundersArgs {
     /// The horizon (default: the scenario's t_end).
     #[arg(long, allow_negative_numbers = true)]
     horizon: Option<f64>,
+    /// Also write founders.csv and establishment.svg into DIR, made if missing.
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
 }
 
 impl RunArgs {
@@ -174,6 +184,7 @@ fn quasi_levels(given: &Option<Vec<String>>) -> Result<Option<[Option<f64>; 2]>>
 
 pub fn ensemble(args: &EnsembleArgs) -> Result<()> {
     let problem = crate::load_problem(&args.file)?;
+    let out_dir = OutDir::open(args.out.as_ref())?;
     let options = EnsembleOptions {
         runs: args.run.runs,
         seed: args.run.seed,
@@ -188,12 +199,34 @@ pub fn ensemble(args: &EnsembleArgs) -> Result<()> {
     let summary = args
         .run
         .in_pool(|| parallel_ensemble(&ensemble, options.runs).summary())?;
+    if let Some(dir) = out_dir {
+        write_ensemble_files(&dir, &summary)?;
+    }
     if args.run.json {
         println!("{}", serde_json::to_string(&summary)?);
     } else {
         print_summary(&summary, problem.model.title);
     }
     Ok(())
+}
+
+/// The summary by time, a fan chart per species and the extinction chart.
+fn write_ensemble_files(dir: &OutDir, summary: &EnsembleSummary) -> Result<()> {
+    dir.write("ensemble-summary.csv", &tables::ensemble_csv(summary))?;
+    for (i, stem) in out::species_stems(&summary.species).iter().enumerate() {
+        dir.figure(
+            &format!("fan-{stem}.svg"),
+            tussock_charts::to_svg(out::WIDTH, out::HEIGHT, |root| {
+                tussock_charts::draw_fan(root, summary, i, 1.0)
+            }),
+        )?;
+    }
+    dir.figure(
+        "extinction.svg",
+        tussock_charts::to_svg(out::WIDTH, out::HEIGHT, |root| {
+            tussock_charts::draw_extinction_curves(root, summary, 1.0)
+        }),
+    )
 }
 
 fn percent(p: Option<f64>) -> String {
@@ -343,6 +376,7 @@ fn print_summary(s: &EnsembleSummary, title: &str) {
 
 pub fn founders(args: &FoundersArgs) -> Result<()> {
     let problem = crate::load_problem(&args.file)?;
+    let out_dir = OutDir::open(args.out.as_ref())?;
     let request = EstablishmentRequest {
         species: args.species,
         founders: args.founders.clone(),
@@ -377,6 +411,15 @@ pub fn founders(args: &FoundersArgs) -> Result<()> {
             .collect();
         plan.table(&tallies)
     })?;
+    if let Some(dir) = out_dir {
+        dir.write("founders.csv", &tables::founders_csv(&table))?;
+        dir.figure(
+            "establishment.svg",
+            tussock_charts::to_svg(out::WIDTH, out::HEIGHT, |root| {
+                tussock_charts::draw_establishment(root, &table, 1.0)
+            }),
+        )?;
+    }
     if args.run.json {
         println!("{}", serde_json::to_string(&table)?);
     } else {

@@ -7,6 +7,11 @@ use anyhow::{bail, Context, Result};
 use tussock_core::analysis::round_sig;
 use tussock_core::data::{read_counts, ImportOptions, Imported};
 use tussock_core::fit::{fit, FitRequest, FitResult, Objective};
+use tussock_core::run::Run;
+use tussock_core::Scenario;
+
+use crate::out::{self, OutDir};
+use crate::tables;
 
 #[derive(clap::Args)]
 pub struct FitArgs {
@@ -38,6 +43,10 @@ pub struct FitArgs {
     /// Write one JSON object instead of a table.
     #[arg(long)]
     json: bool,
+    /// Also write fit-estimates.csv, fitted-trajectory.csv, fitted-vs-counts.svg
+    /// and fit-residuals.svg into DIR, made if missing.
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
 }
 
 fn parse_bounds(items: &[String]) -> Result<BTreeMap<String, (f64, f64)>> {
@@ -106,12 +115,16 @@ pub fn run(args: &FitArgs) -> Result<()> {
     let fit_problem = request
         .validate(&problem, &imported.data)
         .with_context(|| args.data.display().to_string())?;
+    let out_dir = OutDir::open(args.out.as_ref())?;
     let result = fit(&fit_problem, &mut |_, _| true);
 
     if let Some(path) = &args.save {
         let fitted = result.apply_to(&scenario);
         std::fs::write(path, fitted.to_json_pretty() + "\n")
             .with_context(|| format!("cannot write {}", path.display()))?;
+    }
+    if let Some(dir) = out_dir {
+        write_files(&dir, &result, &scenario, &imported)?;
     }
     if args.json {
         println!(
@@ -122,6 +135,35 @@ pub fn run(args: &FitArgs) -> Result<()> {
         print_table(args, &result, &imported, problem.model.title);
     }
     Ok(())
+}
+
+/// The estimates, the model with the fitted values against the counts, and
+/// the residuals.
+fn write_files(
+    dir: &OutDir,
+    result: &FitResult,
+    scenario: &Scenario,
+    imported: &Imported,
+) -> Result<()> {
+    dir.write("fit-estimates.csv", &tables::fit_csv(result))?;
+    let fitted = result
+        .apply_to(scenario)
+        .validate()
+        .context("the fitted values")?;
+    let run = Run::compute(fitted, &[]);
+    let (species, unit) = (&run.problem.species, &run.problem.time_unit);
+    let trajectory = crate::trajectory_csv(&run.trajectory, species)?;
+    dir.write("fitted-trajectory.csv", &trajectory)?;
+    dir.figure(
+        "fitted-vs-counts.svg",
+        crate::time_series_svg(&run, Some(&imported.data)),
+    )?;
+    dir.figure(
+        "fit-residuals.svg",
+        tussock_charts::to_svg(out::WIDTH, out::HEIGHT, |root| {
+            tussock_charts::draw_residuals(root, result, species, unit, 1.0)
+        }),
+    )
 }
 
 fn json(result: &FitResult, imported: &Imported, model: &str) -> serde_json::Value {

@@ -4,7 +4,9 @@
 
 mod ensemble;
 mod fit;
+mod out;
 mod sweep;
+mod tables;
 
 use std::io::Write;
 use std::path::{Path, PathBuf};
@@ -13,14 +15,19 @@ use std::process::ExitCode;
 use anyhow::{Context, Result};
 use clap::{Parser, Subcommand};
 use tussock_core::analysis::{self, LongRunKind};
+use tussock_core::data::CountData;
 use tussock_core::models::MODELS;
+use tussock_core::run::Run;
 use tussock_core::{solve, Problem, Scenario, Trajectory};
+
+use out::OutDir;
 
 #[derive(Parser)]
 #[command(
     name = "tussock",
     version,
-    about = "Plan with two interacting populations: simulate scenario files from the command line."
+    about = "Plan with two interacting populations: simulate scenario files from the command line.",
+    after_help = "run, plan, sweep, fit, ensemble and founders take --out DIR: they then also write their tables as CSV and their figures as SVG (the app's figures) into DIR, and name each file written on stderr."
 )]
 struct Cli {
     #[command(subcommand)]
@@ -36,6 +43,9 @@ enum Command {
         /// Write one JSON object with times, states, stop reason and step statistics instead of CSV.
         #[arg(long)]
         json: bool,
+        /// Also write trajectory.csv, time-series.svg and (two species) phase-plane.svg into DIR, made if missing.
+        #[arg(long, value_name = "DIR")]
+        out: Option<PathBuf>,
     },
     /// Find equilibria and their stability, the model's verdict and the long-run behaviour.
     Analyze {
@@ -114,12 +124,15 @@ struct PlanArgs {
     /// Write one JSON object instead of a table.
     #[arg(long)]
     json: bool,
+    /// Also write release-plan.csv, release-response.svg and release-timing.svg into DIR, made if missing.
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
 }
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let outcome = match cli.command {
-        Command::Run { file, json } => run(&file, json),
+        Command::Run { file, json, out } => run(&file, json, out.as_ref()),
         Command::Analyze { file, json } => analyze(&file, json),
         Command::Plan(args) => plan(&args),
         Command::Sweep(args) => sweep::sweep(&args),
@@ -160,9 +173,35 @@ fn load_problem(file: &Path) -> Result<Problem> {
         .with_context(|| file.display().to_string())
 }
 
-fn run(file: &Path, json: bool) -> Result<()> {
-    let problem = load_problem(file)?;
-    let trajectory = solve(&problem);
+fn run(file: &Path, json: bool, out: Option<&PathBuf>) -> Result<()> {
+    let scenario = load(file)?;
+    let problem = scenario
+        .validate()
+        .with_context(|| file.display().to_string())?;
+    let trajectory = match OutDir::open(out)? {
+        Some(dir) => {
+            // The figures need the analysis and the nullclines as well.
+            let run = Run::compute(problem.clone(), &[]);
+            dir.write(
+                "trajectory.csv",
+                &trajectory_csv(&run.trajectory, &run.problem.species)?,
+            )?;
+            dir.figure(
+                "time-series.svg",
+                time_series_svg(&run, scenario.data.as_ref()),
+            )?;
+            if run.trajectory.n_species == 2 {
+                dir.figure(
+                    "phase-plane.svg",
+                    tussock_charts::to_svg(out::WIDTH, out::HEIGHT, |root| {
+                        tussock_charts::draw_phase_plane(root, &run, scenario.data.as_ref(), 1.0)
+                    }),
+                )?;
+            }
+            run.trajectory
+        }
+        None => solve(&problem),
+    };
     let stdout = std::io::stdout();
     let mut out = std::io::BufWriter::new(stdout.lock());
     if json {
@@ -209,6 +248,20 @@ fn write_csv(out: &mut impl Write, trajectory: &Trajectory, species: &[String]) 
         writeln!(out)?;
     }
     Ok(())
+}
+
+/// The trajectory as the CSV `run` writes to stdout.
+fn trajectory_csv(trajectory: &Trajectory, species: &[String]) -> Result<String> {
+    let mut bytes = Vec::new();
+    write_csv(&mut bytes, trajectory, species)?;
+    Ok(String::from_utf8_lossy(&bytes).into_owned())
+}
+
+/// Densities against time (linear axis), with counts drawn over them.
+fn time_series_svg(run: &Run, observed: Option<&CountData>) -> Result<String, String> {
+    tussock_charts::to_svg(out::WIDTH, out::HEIGHT, |root| {
+        tussock_charts::draw_time_series(root, run, observed, 1.0, false)
+    })
 }
 
 fn trajectory_json(
@@ -334,6 +387,7 @@ fn analyze(file: &Path, json: bool) -> Result<()> {
 fn plan(args: &PlanArgs) -> Result<()> {
     use tussock_core::plan::{self, Goal, PlanRequest, SizeUnit};
     let problem = load_problem(&args.file)?;
+    let out_dir = OutDir::open(args.out.as_ref())?;
     let until = args.until.unwrap_or(problem.t_end);
     let goal = match args.goal.as_str() {
         "pest-below" => Goal::PestBelowThreshold { by: args.by, until },
@@ -363,6 +417,22 @@ fn plan(args: &PlanArgs) -> Result<()> {
         curve_points: args.curve_points,
     };
     let result = plan::plan(&problem, &request)?;
+    if let Some(dir) = out_dir {
+        dir.write("release-plan.csv", &tables::plan_csv(&result))?;
+        let (names, unit) = (&problem.species, &problem.time_unit);
+        dir.figure(
+            "release-response.svg",
+            tussock_charts::to_svg(out::WIDTH, out::HEIGHT, |root| {
+                tussock_charts::draw_response_curves(root, &result, names, args.species, unit, 1.0)
+            }),
+        )?;
+        dir.figure(
+            "release-timing.svg",
+            tussock_charts::to_svg(out::WIDTH, out::HEIGHT, |root| {
+                tussock_charts::draw_release_timing(root, &result, names, args.species, unit, 1.0)
+            }),
+        )?;
+    }
     if args.json {
         println!(
             "{}",

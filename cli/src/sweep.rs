@@ -10,6 +10,9 @@
 use std::io::Write;
 use std::path::PathBuf;
 
+use crate::out::{self, OutDir};
+use crate::tables;
+
 use anyhow::{bail, Context, Result};
 use rayon::prelude::*;
 use tussock_core::analysis::round_sig;
@@ -70,6 +73,11 @@ pub struct SweepArgs {
     /// Write CSV (the default).
     #[arg(long)]
     csv: bool,
+    /// Also write into DIR, made if missing: one-parameter-sweep.csv and a
+    /// bifurcation-SPECIES.svg per species, or outcome-map.csv and
+    /// outcome-map.svg for a map.
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
 }
 
 pub fn sweep(args: &SweepArgs) -> Result<()> {
@@ -78,6 +86,7 @@ pub fn sweep(args: &SweepArgs) -> Result<()> {
     }
     let file = args.file.as_deref().context("give a scenario file")?;
     let problem = crate::load_problem(file)?;
+    let out_dir = OutDir::open(args.out.as_ref())?;
     if !problem.schedule.is_empty() {
         eprintln!("tussock: warning: a sweep ignores the scenario's events (it studies constant parameters)");
     }
@@ -115,6 +124,9 @@ pub fn sweep(args: &SweepArgs) -> Result<()> {
                     .collect()
             });
             let result = plan.finish(points, false);
+            if let Some(dir) = out_dir {
+                write_line_files(&dir, &result, &problem.species)?;
+            }
             write(args.json, &result, |out| {
                 line_csv(out, &result, &problem.species)
             })
@@ -137,6 +149,9 @@ pub fn sweep(args: &SweepArgs) -> Result<()> {
             let plan = request.plan(&problem).map_err(flags)?;
             let rows = pool.install(|| plan.rows().into_par_iter().map(|r| plan.row(r)).collect());
             let result = plan.finish(rows, false);
+            if let Some(dir) = out_dir {
+                write_map_files(&dir, &result, &problem.species)?;
+            }
             write(args.json, &result, |out| map_csv(out, &result))
         }
     }
@@ -216,12 +231,41 @@ fn merge(args: &SweepArgs) -> Result<()> {
         parts.push(part);
     }
     let whole = OutcomeMap::merge(parts)?;
+    if let Some(dir) = OutDir::open(args.out.as_ref())? {
+        // The shards do not carry the species' names.
+        write_map_files(&dir, &whole, &[])?;
+    }
     if whole.partial {
         eprintln!(
             "tussock: warning: the merged map is partial (rows missing or a shard stopped early)"
         );
     }
     write(args.json, &whole, |out| map_csv(out, &whole))
+}
+
+/// The sweep's table and its bifurcation diagram for every species.
+fn write_line_files(dir: &OutDir, sweep: &LineSweep, species: &[String]) -> Result<()> {
+    dir.write("one-parameter-sweep.csv", &tables::line_csv(sweep, species))?;
+    for (i, stem) in out::species_stems(species).iter().enumerate() {
+        dir.figure(
+            &format!("bifurcation-{stem}.svg"),
+            tussock_charts::to_svg(out::WIDTH, out::HEIGHT, |root| {
+                tussock_charts::draw_bifurcation(root, sweep, i, species, &sweep.axis.param, 1.0)
+            }),
+        )?;
+    }
+    Ok(())
+}
+
+/// The map's table and figure.
+fn write_map_files(dir: &OutDir, map: &OutcomeMap, species: &[String]) -> Result<()> {
+    dir.write("outcome-map.csv", &tables::map_csv(map, species))?;
+    dir.figure(
+        "outcome-map.svg",
+        tussock_charts::to_svg(out::WIDTH, out::HEIGHT, |root| {
+            tussock_charts::draw_outcome_map(root, map, &map.x.param, &map.y.param, 1.0)
+        }),
+    )
 }
 
 fn numbers(values: &[f64]) -> String {
