@@ -16,6 +16,7 @@ use crate::components::planner_panel::PlannerPanel;
 use crate::components::report_view::ReportView;
 use crate::components::scenario_form::ScenarioForm;
 use crate::components::schedule_table::ScheduleTable;
+use crate::components::study::{csv_of, CsvButton};
 use crate::components::sweep_panel::SweepPanel;
 use crate::components::toolbar::{open_file, Toolbar};
 use crate::components::variants_panel::VariantsPanel;
@@ -141,6 +142,7 @@ pub fn app() -> Html {
                 <label class="toggle"><input id="log-scale" type="checkbox" checked={bench.log_scale} onchange={on_log} />{ " log scale" }</label>
             </div>
             <ChartCanvas id="chart-time" figure={Figure::TimeSeries { run: run.clone(), log_y: bench.log_scale, observed: (*observed).clone() }} summary={time_summary(&run)} on_error={on_notify.clone()} />
+            <CsvButton id="csv-trajectory" file="trajectory.csv" make={csv_of(run.clone(), crate::export::trajectory_csv)} label="Download the densities (CSV)" />
             if two_species {
                 <div class="chart-head">
                     <h2>{ "Phase plane" }</h2>

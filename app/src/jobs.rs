@@ -307,13 +307,20 @@ pub fn run(job: &Job, now: &dyn Fn() -> f64, send: &mut dyn FnMut(Update) -> boo
                 Ok(ensemble) => {
                     let mut acc = ensemble.accumulator();
                     let total = options.runs;
-                    // Batches of runs, a partial summary between them.
-                    let batch = (total / 50).clamp(1, 200);
+                    // Batches of runs, a partial summary between them. The
+                    // first batch is one run and batches double while they
+                    // take under a tenth of a second, so slow runs still
+                    // report early; the runs do not depend on the batching.
+                    let mut batch = 1;
                     let mut start = 0;
                     while start < total {
                         let end = (start + batch).min(total);
                         let mut stop = false;
+                        let began = now();
                         ensemble.run_batch(&mut acc, start..end, &mut |_, _| true);
+                        if now() - began < 100.0 {
+                            batch = (batch * 2).min((total / 50).clamp(1, 200));
+                        }
                         let go = send(Update::Progress {
                             id,
                             done: end,

@@ -1,7 +1,8 @@
-//! The page's side of the workers: one Web Worker per kind of job, started
-//! on first use, sent jobs as CBOR, its updates handed to a callback.
-//! Cancelling terminates the worker (the only way to stop a computation
-//! that never yields); the next job of that kind starts a fresh one.
+//! The page's side of the workers: at most one Web Worker per kind of job,
+//! a fresh one for every job (so no job inherits another's state; the
+//! browser caches the worker's code), sent its job as CBOR, its updates
+//! handed to a callback. Cancelling terminates the worker, the only way to
+//! stop a computation that never yields.
 
 use std::cell::RefCell;
 use std::collections::BTreeMap;

@@ -12,7 +12,9 @@ use web_sys::HtmlSelectElement;
 use yew::prelude::*;
 
 use crate::components::chart_canvas::ChartCanvas;
-use crate::components::study::{launch, parse_count, parse_list, use_outcome, JobBar, Setting};
+use crate::components::study::{
+    csv_of, launch, parse_count, parse_list, use_outcome, CsvButton, JobBar, Setting,
+};
 use crate::figures::{percent, Figure, Shared};
 use crate::jobs::{Outcome, Task, TaskKind};
 use crate::state::{format_number, parse_number, Workbench};
@@ -290,6 +292,7 @@ pub fn chance_panel(props: &ChancePanelProps) -> Html {
             <h3>{ "Chance of extinction by each time" }</h3>
             <ChartCanvas id="chart-extinction" figure={Figure::Extinction { summary: Shared(summary.clone()) }}
                 summary={AttrValue::from(sentences.join(" "))} />
+            <CsvButton id="csv-ensemble" file="stochastic-runs.csv" make={csv_of(summary.clone(), crate::export::ensemble_csv)} />
             </>
         }
     });
@@ -311,6 +314,7 @@ pub fn chance_panel(props: &ChancePanelProps) -> Html {
                 <thead><tr><th>{ "founders" }</th><th>{ "releases" }</th><th>{ "established" }</th><th>{ "95% interval" }</th><th>{ format!("{other} extinct") }</th><th>{ "runs" }</th></tr></thead>
                 <tbody>{ for rows }</tbody>
             </table>
+            <CsvButton id="csv-founders" file="founders.csv" make={csv_of(table.clone(), crate::export::founders_csv)} />
             <ChartCanvas id="chart-establishment" figure={Figure::Establishment { table: Shared(table.clone()) }}
                 summary={AttrValue::from(format!("Establishment probability of {} against founder numbers, with 95% intervals.", table.species))} />
             </>
@@ -320,7 +324,7 @@ pub fn chance_panel(props: &ChancePanelProps) -> Html {
         html! { <option value={i.to_string()} selected={form.founder_species == i}>{ s.clone() }</option> }
     });
     html! {
-        <section class="study" aria-labelledby="chance-title">
+        <section class="study" id="chance-study" aria-labelledby="chance-title">
             <h2 id="chance-title">{ "Chance and risk" }</h2>
             <p class="hint">{ "Small populations live or die by chance. Each run follows whole individuals through random births, deaths and predation (Gillespie's method, with tau-leaps where populations are large); the same seed always gives the same runs." }</p>
             <form class="study-form" onsubmit={on_ensemble}>

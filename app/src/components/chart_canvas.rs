@@ -125,8 +125,8 @@ pub fn chart_canvas(props: &ChartCanvasProps) -> Html {
             <figcaption>
                 <span class="readout" aria-hidden="true">{ (*readout).clone() }</span>
                 <span class="figure-downloads">
-                    <button type="button" class="small" onclick={on_svg} title="Download this figure as SVG (vector, for reports)">{ "SVG" }</button>
-                    <button type="button" class="small" onclick={on_png} title="Download this figure as PNG at twice screen resolution">{ "PNG" }</button>
+                    <button id={format!("{}-svg", props.id)} type="button" class="small" onclick={on_svg} title="Download this figure as SVG (vector, for reports)">{ "SVG" }</button>
+                    <button id={format!("{}-png", props.id)} type="button" class="small" onclick={on_png} title="Download this figure as PNG at twice screen resolution">{ "PNG" }</button>
                 </span>
             </figcaption>
             <p class="visually-hidden">{ props.summary.clone() }</p>

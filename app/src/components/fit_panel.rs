@@ -13,7 +13,7 @@ use yew::prelude::*;
 
 use crate::browser;
 use crate::components::chart_canvas::ChartCanvas;
-use crate::components::study::{launch, parse_count, JobBar};
+use crate::components::study::{csv_of, launch, parse_count, CsvButton, JobBar};
 use crate::figures::{Figure, Labels, Shared};
 use crate::jobs::{Task, TaskKind};
 use crate::state::{format_number, parse_number, Action, Workbench};
@@ -405,6 +405,7 @@ pub fn fit_panel(props: &FitPanelProps) -> Html {
                 <thead><tr><th>{ "quantity" }</th><th>{ "estimate" }</th><th>{ "standard error" }</th><th>{ "95% profile interval" }</th><th>{ "searched" }</th></tr></thead>
                 <tbody>{ for rows }</tbody>
             </table>
+            <CsvButton id="csv-fit" file="fit.csv" make={csv_of(fit.0.clone(), crate::export::fit_csv)} />
             <p class="metric" id="fit-criteria">{ format!("{}: objective {}, log-likelihood {}, AIC {}, AICc {} ({} counts, {} estimated). Compare AIC only between fits to the same counts with the same objective.",
                 objective_label(fit.objective_kind), round_sig(fit.objective, 6), round_sig(fit.log_likelihood, 6),
                 round_sig(fit.aic, 6), fit.aicc.map(|a| round_sig(a, 6)).unwrap_or_else(|| "–".into()),

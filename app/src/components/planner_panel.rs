@@ -10,7 +10,9 @@ use web_sys::HtmlSelectElement;
 use yew::prelude::*;
 
 use crate::components::chart_canvas::ChartCanvas;
-use crate::components::study::{launch, parse_count, parse_list, use_outcome, JobBar, Setting};
+use crate::components::study::{
+    csv_of, launch, parse_count, parse_list, use_outcome, CsvButton, JobBar, Setting,
+};
 use crate::figures::{Figure, Labels, Shared};
 use crate::jobs::{Outcome, Task, TaskKind};
 use crate::state::{format_number, parse_number, Action, Workbench};
@@ -349,6 +351,7 @@ pub fn planner_panel(props: &PlannerPanelProps) -> Html {
                 </tr></thead>
                 <tbody>{ for rows }</tbody>
             </table>
+            <CsvButton id="csv-plan" file="release-plan.csv" make={csv_of(plan.clone(), crate::export::plan_csv)} />
             <h3>{ "Response: how far from failing, by release size" }</h3>
             <ChartCanvas id="chart-plan-response" figure={Figure::ResponseCurves { plan: shared.clone(), labels: labels.clone(), released }}
                 summary={AttrValue::from(format!("Goal margin against release size for {} release plans. {}", plan.rows.len(), answer(&plan, &labels.species, released, &labels.time_unit)))} />

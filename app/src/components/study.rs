@@ -122,8 +122,9 @@ pub fn job_bar(props: &JobBarProps) -> Html {
                 duration(slot.updated_ms - slot.started_ms).trim_start_matches("about ")) }</span>
         },
         JobStatus::Cancelled => html! {
-            <span class="job-text warn">{ format!("{} stopped at {}%: the results below are partial.",
-                capitalise(kind.label()), round_sig(slot.fraction() * 100.0, 3)) }</span>
+            <span class="job-text warn">{ format!("{} stopped at {}%: {}",
+                capitalise(kind.label()), round_sig(slot.fraction() * 100.0, 3),
+                if slot.outcome.is_some() { "the results below are partial." } else { "no results were ready yet." }) }</span>
         },
         JobStatus::Failed(message) => html! {
             <span class="job-text warn" role="alert">{ format!("{} failed: {message}", capitalise(kind.label())) }</span>
@@ -203,6 +204,15 @@ pub struct CsvButtonProps {
     pub make: Callback<(), String>,
     #[prop_or(AttrValue::from("Download table (CSV)"))]
     pub label: AttrValue,
+}
+
+/// The `make` of a [`CsvButton`]: the table of `value`, written when clicked.
+pub fn csv_of<T: 'static>(
+    value: impl Into<std::rc::Rc<T>>,
+    write: impl Fn(&T) -> String + 'static,
+) -> Callback<(), String> {
+    let value = value.into();
+    Callback::from(move |_| write(&value))
 }
 
 /// A button that downloads a table as CSV.
