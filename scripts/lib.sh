@@ -155,6 +155,8 @@ ensure_python_refs() {
 # Everything the browser build needs.
 ensure_web_toolchain() {
     require_cargo
+    # trunk's post-build hook (scripts/externalise-scripts.py) needs it.
+    command -v python3 >/dev/null || die "python3 not found: the app build runs a small Python step; install Python 3"
     ensure_wasm_compiler
     ensure_trunk
     ensure_wasm_bindgen

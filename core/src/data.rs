@@ -1,5 +1,5 @@
 //! Census counts: reading them from CSV text, and the checked form a fit
-//! uses ([`CountData`], which scenario files will carry later).
+//! uses ([`CountData`], which scenario files carry as `data`).
 //!
 //! The text holds a time column and one or two count columns. Columns are
 //! mapped to the model's species by header name (case-insensitive), or by
