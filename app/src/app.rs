@@ -142,7 +142,7 @@ pub fn app() -> Html {
                 <label class="toggle"><input id="log-scale" type="checkbox" checked={bench.log_scale} onchange={on_log} />{ " log scale" }</label>
             </div>
             <ChartCanvas id="chart-time" figure={Figure::TimeSeries { run: run.clone(), log_y: bench.log_scale, observed: (*observed).clone() }} summary={time_summary(&run)} on_error={on_notify.clone()} />
-            <CsvButton id="csv-trajectory" file="trajectory.csv" make={csv_of(run.clone(), crate::export::trajectory_csv)} label="Download the densities (CSV)" />
+            <CsvButton id="csv-trajectory" file="trajectory.csv" make={csv_of(run.clone(), tussock_charts::tables::trajectory_csv)} label="Download the densities (CSV)" />
             if two_species {
                 <div class="chart-head">
                     <h2>{ "Phase plane" }</h2>

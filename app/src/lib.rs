@@ -10,7 +10,6 @@ pub mod app;
 pub mod browser;
 pub mod components;
 pub mod examples;
-pub mod export;
 pub mod figures;
 pub mod jobs;
 pub mod panic;

@@ -22,6 +22,7 @@ pub mod fit;
 pub mod plan;
 pub mod stochastic;
 pub mod sweep;
+pub mod tables;
 #[cfg(test)]
 mod testing;
 pub mod workbench;

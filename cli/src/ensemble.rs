@@ -8,8 +8,8 @@ use std::path::PathBuf;
 use anyhow::{bail, Result};
 
 use crate::out::{self, OutDir};
-use crate::tables;
 use rayon::prelude::*;
+use tussock_charts::tables;
 use tussock_core::analysis::round_sig;
 use tussock_core::stochastic::{
     Ensemble, EnsembleAccumulator, EnsembleOptions, EnsembleSummary, EnvironmentalNoise,

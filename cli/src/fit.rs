@@ -11,7 +11,7 @@ use tussock_core::run::Run;
 use tussock_core::Scenario;
 
 use crate::out::{self, OutDir};
-use crate::tables;
+use tussock_charts::tables;
 
 #[derive(clap::Args)]
 pub struct FitArgs {

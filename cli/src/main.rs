@@ -6,7 +6,6 @@ mod ensemble;
 mod fit;
 mod out;
 mod sweep;
-mod tables;
 
 use std::io::Write;
 use std::path::{Path, PathBuf};
@@ -418,7 +417,10 @@ fn plan(args: &PlanArgs) -> Result<()> {
     };
     let result = plan::plan(&problem, &request)?;
     if let Some(dir) = out_dir {
-        dir.write("release-plan.csv", &tables::plan_csv(&result))?;
+        dir.write(
+            "release-plan.csv",
+            &tussock_charts::tables::plan_csv(&result),
+        )?;
         let (names, unit) = (&problem.species, &problem.time_unit);
         dir.figure(
             "release-response.svg",

@@ -11,7 +11,7 @@ use std::io::Write;
 use std::path::PathBuf;
 
 use crate::out::{self, OutDir};
-use crate::tables;
+use tussock_charts::tables;
 
 use anyhow::{bail, Context, Result};
 use rayon::prelude::*;

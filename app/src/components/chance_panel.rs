@@ -292,7 +292,7 @@ pub fn chance_panel(props: &ChancePanelProps) -> Html {
             <h3>{ "Chance of extinction by each time" }</h3>
             <ChartCanvas id="chart-extinction" figure={Figure::Extinction { summary: Shared(summary.clone()) }}
                 summary={AttrValue::from(sentences.join(" "))} />
-            <CsvButton id="csv-ensemble" file="stochastic-runs.csv" make={csv_of(summary.clone(), crate::export::ensemble_csv)} />
+            <CsvButton id="csv-ensemble" file="stochastic-runs.csv" make={csv_of(summary.clone(), tussock_charts::tables::ensemble_csv)} />
             </>
         }
     });
@@ -314,7 +314,7 @@ pub fn chance_panel(props: &ChancePanelProps) -> Html {
                 <thead><tr><th>{ "founders" }</th><th>{ "releases" }</th><th>{ "established" }</th><th>{ "95% interval" }</th><th>{ format!("{other} extinct") }</th><th>{ "runs" }</th></tr></thead>
                 <tbody>{ for rows }</tbody>
             </table>
-            <CsvButton id="csv-founders" file="founders.csv" make={csv_of(table.clone(), crate::export::founders_csv)} />
+            <CsvButton id="csv-founders" file="founders.csv" make={csv_of(table.clone(), tussock_charts::tables::founders_csv)} />
             <ChartCanvas id="chart-establishment" figure={Figure::Establishment { table: Shared(table.clone()) }}
                 summary={AttrValue::from(format!("Establishment probability of {} against founder numbers, with 95% intervals.", table.species))} />
             </>

@@ -405,7 +405,7 @@ pub fn fit_panel(props: &FitPanelProps) -> Html {
                 <thead><tr><th>{ "quantity" }</th><th>{ "estimate" }</th><th>{ "standard error" }</th><th>{ "95% profile interval" }</th><th>{ "searched" }</th></tr></thead>
                 <tbody>{ for rows }</tbody>
             </table>
-            <CsvButton id="csv-fit" file="fit.csv" make={csv_of(fit.0.clone(), crate::export::fit_csv)} />
+            <CsvButton id="csv-fit" file="fit.csv" make={csv_of(fit.0.clone(), tussock_charts::tables::fit_csv)} />
             <p class="metric" id="fit-criteria">{ format!("{}: objective {}, log-likelihood {}, AIC {}, AICc {} ({} counts, {} estimated). Compare AIC only between fits to the same counts with the same objective.",
                 objective_label(fit.objective_kind), round_sig(fit.objective, 6), round_sig(fit.log_likelihood, 6),
                 round_sig(fit.aic, 6), fit.aicc.map(|a| round_sig(a, 6)).unwrap_or_else(|| "–".into()),

@@ -351,7 +351,7 @@ pub fn planner_panel(props: &PlannerPanelProps) -> Html {
                 </tr></thead>
                 <tbody>{ for rows }</tbody>
             </table>
-            <CsvButton id="csv-plan" file="release-plan.csv" make={csv_of(plan.clone(), crate::export::plan_csv)} />
+            <CsvButton id="csv-plan" file="release-plan.csv" make={csv_of(plan.clone(), tussock_charts::tables::plan_csv)} />
             <h3>{ "Response: how far from failing, by release size" }</h3>
             <ChartCanvas id="chart-plan-response" figure={Figure::ResponseCurves { plan: shared.clone(), labels: labels.clone(), released }}
                 summary={AttrValue::from(format!("Goal margin against release size for {} release plans. {}", plan.rows.len(), answer(&plan, &labels.species, released, &labels.time_unit)))} />

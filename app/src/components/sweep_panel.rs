@@ -336,7 +336,7 @@ pub fn sweep_panel(props: &SweepPanelProps) -> Html {
             </div>
             <ChartCanvas id="chart-bifurcation" figure={Figure::Bifurcation { sweep: Shared(sweep.clone()), labels: labels.clone(), species: form.species.min(labels.species.len().saturating_sub(1)), param: param.clone() }}
                 summary={AttrValue::from(summary)} on_click={on_click} />
-            <CsvButton id="csv-line" file="one-parameter-sweep.csv" make={{ let species = labels.species.clone(); csv_of(sweep.clone(), move |s| crate::export::line_csv(s, &species)) }} />
+            <CsvButton id="csv-line" file="one-parameter-sweep.csv" make={{ let species = labels.species.clone(); csv_of(sweep.clone(), move |s| tussock_charts::tables::line_csv(s, &species)) }} />
             <p class="key">{ "Solid: stable equilibrium; dashed: unstable; dots: lowest and highest densities in the long run (apart when the populations cycle). Click to use a value." }</p>
             <ul class="bifurcations" id="sweep-bifurcations">
                 { for sentences.iter().map(|t| html! { <li>{ t.clone() }</li> }) }
@@ -380,7 +380,7 @@ pub fn sweep_panel(props: &SweepPanelProps) -> Html {
             <h3>{ format!("What happens, by {} and {}", map.x.param, map.y.param) }</h3>
             <ChartCanvas id="chart-map" figure={Figure::OutcomeMap { map: Shared(map.clone()), labels: labels.clone() }}
                 summary={AttrValue::from(summary)} on_click={on_click} />
-            <CsvButton id="csv-map" file="outcome-map.csv" make={{ let species = labels.species.clone(); csv_of(map.clone(), move |m| crate::export::map_csv(m, &species)) }} />
+            <CsvButton id="csv-map" file="outcome-map.csv" make={{ let species = labels.species.clone(); csv_of(map.clone(), move |m| tussock_charts::tables::map_csv(m, &species)) }} />
             <ul class="legend" id="map-legend">
                 { for counted.iter().map(|(colour, label, n)| html! {
                     <li><span class={classes!("swatch", colour.clone())}></span>{ format!("{label} ({n} cells)") }</li>

@@ -1,6 +1,6 @@
-//! Tables as CSV for download: the trajectory, release plans, sweeps,
-//! outcome maps, ensemble summaries, founder tables and fits. Pure, tested
-//! natively; the page offers each beside its table or chart.
+//! Tables as CSV: the trajectory, release plans, sweeps, outcome maps,
+//! ensemble summaries, founder tables and fits. The page offers each beside
+//! its table or chart; the command line's `--out` writes the same files.
 
 use tussock_core::fit::FitResult;
 use tussock_core::plan::Plan;
@@ -8,7 +8,7 @@ use tussock_core::stochastic::{EnsembleSummary, EstablishmentTable};
 use tussock_core::sweep::line::LineSweep;
 use tussock_core::sweep::map::OutcomeMap;
 
-use crate::state::Run;
+use tussock_core::run::Run;
 
 /// A CSV document built row by row (RFC 4180 quoting by the `csv` crate).
 struct Table {
@@ -150,7 +150,7 @@ pub fn map_csv(map: &OutcomeMap, species: &[String]) -> String {
             t.row(&[
                 num(cell.x),
                 num(cell.y),
-                tussock_charts::class_label(cell.class, species),
+                crate::class_label(cell.class, species),
                 serde_json::to_value(cell.class)
                     .ok()
                     .and_then(|v| v.as_str().map(str::to_string))
@@ -214,6 +214,7 @@ pub fn founders_csv(table: &EstablishmentTable) -> String {
     t.finish()
 }
 
+/// One row per estimate, then the dispersion `k` of a negative binomial fit.
 pub fn fit_csv(fit: &FitResult) -> String {
     let mut t = Table::new(&names(&[
         "name",
@@ -225,7 +226,7 @@ pub fn fit_csv(fit: &FitResult) -> String {
         "lower_bound",
         "upper_bound",
     ]));
-    for e in &fit.estimates {
+    for e in fit.estimates.iter().chain(fit.dispersion.iter()) {
         t.row(&[
             e.name.clone(),
             e.label.clone(),
@@ -243,7 +244,13 @@ pub fn fit_csv(fit: &FitResult) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::state::Workbench;
+
+    fn run_of(json: &str) -> Run {
+        let problem = tussock_core::Scenario::from_json(json)
+            .and_then(|s| s.validate())
+            .unwrap();
+        Run::compute(problem, &[])
+    }
 
     fn read(text: &str) -> (Vec<String>, Vec<Vec<String>>) {
         let mut r = csv::Reader::from_reader(text.as_bytes());
@@ -257,28 +264,25 @@ mod tests {
 
     #[test]
     fn the_trajectory_has_its_header_and_a_row_per_output_time() {
-        let b = Workbench::starting();
-        let (header, rows) = read(&trajectory_csv(&b.run));
+        let run = run_of(include_str!("../../examples/greenhouse-mites.json"));
+        let (header, rows) = read(&trajectory_csv(&run));
         assert_eq!(header, ["t", "spider mite", "predatory mite"]);
-        assert_eq!(rows.len(), b.run.trajectory.times.len());
+        assert_eq!(rows.len(), run.trajectory.times.len());
         let last = rows.last().unwrap();
-        assert_eq!(last[0].parse::<f64>().unwrap(), b.run.problem.t_end);
+        assert_eq!(last[0].parse::<f64>().unwrap(), run.problem.t_end);
         // Exact round trip of every value.
         assert_eq!(
             last[1].parse::<f64>().unwrap(),
-            b.run.trajectory.states.last().unwrap()[0]
+            run.trajectory.states.last().unwrap()[0]
         );
     }
 
     #[test]
     fn names_with_commas_and_quotes_are_quoted() {
-        let mut s = tussock_core::Scenario::from_json(
+        let run = run_of(
             r#"{"model": "logistic", "params": {"b": 1, "d": 0.1, "K": 10}, "initial": [1], "t_end": 2, "output_step": 1, "species": ["ants, \"red\""]}"#,
-        )
-        .unwrap();
-        s.t_end = 2.0;
-        let b = Workbench::new(s).unwrap();
-        let (header, rows) = read(&trajectory_csv(&b.run));
+        );
+        let (header, rows) = read(&trajectory_csv(&run));
         assert_eq!(header, ["t", "ants, \"red\""]);
         assert_eq!(rows.len(), 3);
     }
