@@ -47,7 +47,10 @@ pub fn chart_canvas(props: &ChartCanvasProps) -> Html {
         use_effect_with(props.figure.clone(), move |figure| {
             if let Some(canvas) = canvas_ref.cast::<HtmlCanvasElement>() {
                 match draw(&canvas, figure) {
-                    Ok(m) => map.set(Some(m)),
+                    Ok(m) => {
+                        map.set(Some(m));
+                        mark_drawn(&canvas);
+                    }
                     Err(e) => {
                         map.set(None);
                         web_sys::console::warn_1(&JsValue::from_str(&format!(
@@ -132,6 +135,23 @@ pub fn chart_canvas(props: &ChartCanvasProps) -> Html {
             <p class="visually-hidden">{ props.summary.clone() }</p>
         </figure>
     }
+}
+
+/// Stamp the canvas with the time its drawing finished (`data-drawn-at`,
+/// milliseconds since the page started) and how many times it has been
+/// drawn (`data-draws`): the browser tests wait on these and the browser
+/// benchmark measures input-to-chart latency with them.
+fn mark_drawn(canvas: &HtmlCanvasElement) {
+    let now = web_sys::window()
+        .and_then(|w| w.performance())
+        .map(|p| p.now())
+        .unwrap_or(0.0);
+    let draws = canvas
+        .get_attribute("data-draws")
+        .and_then(|d| d.parse::<u64>().ok())
+        .unwrap_or(0);
+    let _ = canvas.set_attribute("data-drawn-at", &format!("{now:.3}"));
+    let _ = canvas.set_attribute("data-draws", &(draws + 1).to_string());
 }
 
 fn draw(canvas: &HtmlCanvasElement, figure: &Figure) -> Result<PlotMap, String> {

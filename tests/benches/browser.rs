@@ -1,0 +1,139 @@
+//! The browser benchmark: what the page costs to download, how long it takes
+//! from navigation to the first chart, and how long from an edit to both
+//! charts redrawn (the workbench's target is one frame, 16 ms, for the
+//! examples). Run by `scripts/bench` after the app build; prints a markdown
+//! table and writes it to `target/bench/browser.md`. Measurements only:
+//! nothing here passes or fails on time.
+
+use std::path::Path;
+
+use serde_json::json;
+use tussock_tests::{dist_dir, Browser};
+
+/// Edits measured, alternating two values of K so every one changes it.
+const EDITS: usize = 50;
+const LOADS: usize = 5;
+
+fn gzipped(path: &Path) -> usize {
+    let bytes = std::fs::read(path).unwrap_or_default();
+    // Level 9 deflate; gzip adds an 18-byte frame.
+    miniz_oxide::deflate::compress_to_vec(&bytes, 9).len() + 18
+}
+
+/// (files the page loads at start, files the workers load on demand), in
+/// gzipped bytes.
+fn page_weight(dist: &Path) -> (usize, usize) {
+    let mut start = 0;
+    let mut later = 0;
+    for entry in std::fs::read_dir(dist).expect("read dist").flatten() {
+        let name = entry.file_name().to_string_lossy().into_owned();
+        let size = gzipped(&entry.path());
+        if name.starts_with("tussock-worker") || name == "worker-loader.js" {
+            later += size;
+        } else if [".html", ".js", ".wasm", ".css", ".svg"]
+            .iter()
+            .any(|ext| name.ends_with(ext))
+        {
+            start += size;
+        }
+    }
+    (start, later)
+}
+
+fn quantile(sorted: &[f64], q: f64) -> f64 {
+    if sorted.is_empty() {
+        return f64::NAN;
+    }
+    let i = ((sorted.len() - 1) as f64 * q).round() as usize;
+    sorted[i]
+}
+
+async fn measure() -> String {
+    let dist = dist_dir();
+    let (start_bytes, worker_bytes) = page_weight(&dist);
+    let b = Browser::start().await;
+
+    let mut loads = Vec::new();
+    for _ in 0..LOADS {
+        b.client.goto("about:blank").await.expect("blank page");
+        b.open_app().await;
+        let v = b
+            .client
+            .execute(
+                "return parseFloat(document.getElementById('chart-time').dataset.drawnAt);",
+                vec![],
+            )
+            .await
+            .expect("read the first draw time");
+        loads.push(v.as_f64().unwrap_or(f64::NAN));
+    }
+
+    let script = r#"
+        const [value, done] = arguments;
+        const time = document.getElementById('chart-time');
+        const phase = document.getElementById('chart-phase');
+        const before = [+time.dataset.draws, +phase.dataset.draws];
+        const field = document.getElementById('param-K');
+        const t0 = performance.now();
+        field.value = value;
+        field.dispatchEvent(new Event('input', {bubbles: true}));
+        const poll = () => {
+            if (+time.dataset.draws > before[0] && +phase.dataset.draws > before[1]) {
+                done(Math.max(+time.dataset.drawnAt, +phase.dataset.drawnAt) - t0);
+            } else if (performance.now() - t0 > 5000) {
+                done(-1);
+            } else {
+                setTimeout(poll, 0);
+            }
+        };
+        poll();
+    "#;
+    let mut redraws = Vec::new();
+    for i in 0..EDITS {
+        let value = if i % 2 == 0 { "151" } else { "150" };
+        let ms = b
+            .client
+            .execute_async(script, vec![json!(value)])
+            .await
+            .expect("edit and wait for the redraw");
+        match ms.as_f64() {
+            Some(ms) if ms >= 0.0 => redraws.push(ms),
+            _ => eprintln!("edit {i}: no redraw within 5 s"),
+        }
+    }
+    b.close().await;
+    loads.sort_by(f64::total_cmp);
+    redraws.sort_by(f64::total_cmp);
+    let kb = |bytes: usize| format!("{:.0} KB", bytes as f64 / 1024.0);
+    format!(
+        "| browser measure (headless Chromium, greenhouse example) | value |\n\
+         |---|---|\n\
+         | page weight at start, gzipped (budget 600 KB) | {} |\n\
+         | worker code, gzipped, loaded on first background job | {} |\n\
+         | navigation to first chart, median of {LOADS} loads | {:.0} ms |\n\
+         | edit to both charts redrawn, median of {} edits | {:.1} ms |\n\
+         | edit to both charts redrawn, 95th percentile | {:.1} ms |\n",
+        kb(start_bytes),
+        kb(worker_bytes),
+        quantile(&loads, 0.5),
+        redraws.len(),
+        quantile(&redraws, 0.5),
+        quantile(&redraws, 0.95),
+    )
+}
+
+fn main() {
+    // `cargo bench` passes --bench; anything else (cargo test's listing)
+    // should not start a browser.
+    if !std::env::args().any(|a| a == "--bench") {
+        return;
+    }
+    let table = tokio::runtime::Runtime::new()
+        .expect("tokio runtime")
+        .block_on(measure());
+    print!("{table}");
+    let out = Path::new(env!("CARGO_MANIFEST_DIR")).join("../target/bench");
+    if std::fs::create_dir_all(&out).is_ok() {
+        let _ = std::fs::write(out.join("browser.md"), &table);
+    }
+}
