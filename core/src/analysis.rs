@@ -8,7 +8,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::model::{Jacobian, ModelSpec, Outcome, Params, State};
 use crate::scenario::Problem;
-use crate::solve::{solve_with, SolverOptions, StopReason};
+use crate::solve::{per_capita_rates, solve_with, SolverOptions, StopReason};
 
 /// Linear stability class of an equilibrium, from its eigenvalues.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
@@ -434,18 +434,16 @@ pub struct LongRun {
     /// Smallest and largest density of each species after transients.
     pub min: Vec<f64>,
     pub max: Vec<f64>,
-    /// Which species died out.
+    /// Which species died out: zero at the end of the window, or falling
+    /// at a steady per-capita rate (see [`long_run_over`]).
     pub extinct: Vec<bool>,
     /// The window examined, in time units.
     pub window: (f64, f64),
     pub stop: StopReason,
 }
 
-/// Density below which a species counts as extinct in the long run.
-pub const EXTINCTION_DENSITY: f64 = 1e-6;
-
 /// Simulate long enough for transients to fade (see [`long_run_horizon`]),
-/// then read the last quarter.
+/// then read the last quarter (or more; see [`long_run_over`]).
 pub fn long_run(problem: &Problem, equilibria: &[Equilibrium]) -> LongRun {
     let t_end = long_run_horizon(equilibria, problem.t_end);
     long_run_over(
@@ -495,9 +493,31 @@ pub fn long_run_horizon(equilibria: &[Equilibrium], at_least: f64) -> f64 {
     horizon.max(at_least).min(1e5)
 }
 
+/// Longest window [`long_run_over`] reads, in time units, unless asked
+/// for a longer one.
+pub const LONGEST_WINDOW: f64 = 1e5;
+
 /// The long-run behaviour from `initial`: integrate to 3/4 of `t_end`
 /// without keeping output, then read the last quarter from `samples` even
-/// output points. Tolerances are tightened to at least rtol 1e-8, atol 1e-10.
+/// output points. Tolerances are tightened to at least rtol 1e-8, atol
+/// 1e-10; deep troughs stay positive (see
+/// [`crate::solve`](mod@crate::solve)).
+///
+/// A cycle: the species with the widest relative range crosses its mean
+/// upwards at least three times, its range is over 1e-3 of its maximum
+/// and does not shrink from the first half to the second. Otherwise the
+/// window is calm when every species' per-capita rate is steady (the same,
+/// to 1%, three quarters of the way through and at the end) and none rises
+/// (ln x gaining over 1e-3 a quarter of the window at its rate at the
+/// end); then a species is extinct when it still falls (losing over 1e-3),
+/// as one does once the others have settled without it. A species at zero
+/// at the end is extinct too. In the trough of a cycle some species rises,
+/// so however deep the trough it is not an extinction.
+///
+/// A window that shows neither a cycle, nor damped oscillations (three
+/// upward crossings), nor calm is too short to tell (a cycle slower than
+/// it, or a trough longer than it): it is doubled at the same spacing, up
+/// to [`LONGEST_WINDOW`].
 pub fn long_run_over(
     model: &ModelSpec,
     params: &Params,
@@ -513,24 +533,36 @@ pub fn long_run_over(
         ..*solver
     };
     let from = 0.75 * t_end;
+    let mut window = t_end - from;
+    let step = window / samples.max(8) as f64;
     // Transients: a few output points only (the system is autonomous, so
-    // the window is integrated from its own t = 0).
+    // each stretch is integrated from its own t = 0).
     let transient = solve_with(model, params, initial, from, from / 64.0, &options);
-    let (traj, tail) = match transient.states.last() {
-        Some(&start) if transient.stop.is_finished() => {
-            let window = t_end - from;
-            let step = window / samples.max(8) as f64;
-            let traj = solve_with(model, params, start, window, step, &options);
-            let tail: Vec<(f64, State)> = traj
-                .times
-                .iter()
-                .zip(&traj.states)
-                .map(|(t, s)| (*t + from, *s))
-                .collect();
-            (traj, tail)
+    let mut stop = transient.stop;
+    let mut tail: Vec<(f64, State)> = Vec::new();
+    let mut reading = None;
+    if let (true, Some(&start)) = (stop.is_finished(), transient.states.last()) {
+        tail.push((from, start));
+        let mut length = window;
+        loop {
+            let (t0, x0) = tail[tail.len() - 1];
+            let more = solve_with(model, params, x0, length, step, &options);
+            let times = more.times.iter().map(|t| t0 + t);
+            tail.extend(times.zip(more.states.iter().copied()).skip(1));
+            stop = more.stop;
+            if !stop.is_finished() || tail.len() < 8 {
+                break;
+            }
+            let r = read_window(model, params, &tail);
+            let longer = r.too_short && 2.0 * window <= LONGEST_WINDOW;
+            reading = Some(r);
+            if !longer {
+                break;
+            }
+            length = window;
+            window *= 2.0;
         }
-        _ => (transient, Vec::new()),
-    };
+    }
     let mut min = vec![f64::INFINITY; n];
     let mut max = vec![f64::NEG_INFINITY; n];
     for (_, s) in &tail {
@@ -539,68 +571,94 @@ pub fn long_run_over(
             max[i] = max[i].max(s[i]);
         }
     }
-    let result = |kind, period, min: Vec<f64>, max: Vec<f64>, extinct| LongRun {
+    let (kind, period, extinct) = match (stop, reading) {
+        (StopReason::BlewUp { .. }, _) => (LongRunKind::Unbounded, None, vec![false; n]),
+        (StopReason::Finished, Some(r)) => (r.kind, r.period, r.extinct),
+        _ => (LongRunKind::Failed, None, vec![false; n]),
+    };
+    LongRun {
         kind,
         period,
         min,
         max,
         extinct,
-        window: (from, t_end),
-        stop: traj.stop,
-    };
-    match traj.stop {
-        StopReason::BlewUp { .. } => {
-            return result(LongRunKind::Unbounded, None, min, max, vec![false; n])
-        }
-        StopReason::Finished => {}
-        _ => return result(LongRunKind::Failed, None, min, max, vec![false; n]),
+        window: (from, from + window),
+        stop,
     }
-    if tail.len() < 8 {
-        return result(LongRunKind::Failed, None, min, max, vec![false; n]);
-    }
-    let extinct: Vec<bool> = (0..n).map(|i| max[i] < EXTINCTION_DENSITY).collect();
-    // Still growing fast at the end: unbounded.
-    let growing = (0..n).any(|i| {
-        let first = tail[0].1[i];
-        let last = tail[tail.len() - 1].1[i];
-        last > 1e3 * first.max(1.0) && tail.windows(2).all(|w| w[1].1[i] >= w[0].1[i])
-    });
-    if growing {
-        return result(LongRunKind::Unbounded, None, min, max, extinct);
-    }
-    // Oscillation: relative range of each surviving species, and whether
-    // it still shrinks from the first to the second half of the window.
-    let half = tail.len() / 2;
+}
+
+/// What a window of a long run shows.
+struct Reading {
+    kind: LongRunKind,
+    period: Option<f64>,
+    extinct: Vec<bool>,
+    /// It shows neither a cycle, nor damped oscillations, nor a calm
+    /// state: a longer window may tell.
+    too_short: bool,
+}
+
+/// Read a finished long run from its window (at least 8 points), as
+/// [`long_run_over`] describes.
+fn read_window(model: &ModelSpec, params: &Params, tail: &[(f64, State)]) -> Reading {
+    let n = model.n_species();
+    let last = tail.len() - 1;
     let range = |part: &[(f64, State)], i: usize| {
-        let (lo, hi) = part
-            .iter()
+        part.iter()
             .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), (_, s)| {
                 (lo.min(s[i]), hi.max(s[i]))
-            });
+            })
+    };
+    let width = |part: &[(f64, State)], i: usize| {
+        let (lo, hi) = range(part, i);
         hi - lo
     };
-    let lead = (0..n)
-        .filter(|&i| !extinct[i])
-        .max_by(|&a, &b| (range(&tail, a) / max[a]).total_cmp(&(range(&tail, b) / max[b])));
-    let cycling = lead.is_some_and(|i| {
-        let relative = range(&tail, i) / max[i].max(1e-300);
-        let (early, late) = (range(&tail[..half], i), range(&tail[half..], i));
-        relative > 1e-3 && late > 0.9 * early
+    // Changes of ln x over a quarter of the window at the per-capita rates
+    // three quarters of the way through and at the end (the model's rates:
+    // exact however deep a density, unlike differences of densities).
+    let quarter = (tail[last].0 - tail[0].0) / 4.0;
+    let [before, end] =
+        [3 * last / 4, last].map(|k| per_capita_rates(model, params, &tail[k].1) * quarter);
+    // Every rate steady and none rising: nothing will change.
+    let calm = (0..n)
+        .all(|i| (end[i] - before[i]).abs() <= 0.01 * before[i].abs() + 1e-6 && end[i] <= 1e-3);
+    let extinct: Vec<bool> = (0..n)
+        .map(|i| tail[last].1[i] == 0.0 || (calm && end[i] < -1e-3))
+        .collect();
+    let reading = |kind, period, too_short| Reading {
+        kind,
+        period,
+        extinct: extinct.clone(),
+        too_short,
+    };
+    // Still growing fast at the end: unbounded.
+    let growing = (0..n).any(|i| {
+        let (first, now) = (tail[0].1[i], tail[last].1[i]);
+        now > 1e3 * first.max(1.0) && tail.windows(2).all(|w| w[1].1[i] >= w[0].1[i])
     });
-    if cycling {
-        let i = lead.unwrap_or(0);
-        let mean = tail.iter().map(|(_, s)| s[i]).sum::<f64>() / tail.len() as f64;
-        let ups: Vec<f64> = tail
-            .windows(2)
-            .filter(|w| w[0].1[i] < mean && w[1].1[i] >= mean)
-            .map(|w| {
-                let (t0, t1, a, b) = (w[0].0, w[1].0, w[0].1[i], w[1].1[i]);
-                t0 + (mean - a) / (b - a) * (t1 - t0)
-            })
-            .collect();
-        if ups.len() >= 3 {
+    if growing {
+        return reading(LongRunKind::Unbounded, None, false);
+    }
+    let relative = |i: usize| width(tail, i) / range(tail, i).1.max(1e-300);
+    let oscillating = (0..n)
+        .max_by(|&a, &b| relative(a).total_cmp(&relative(b)))
+        .and_then(|i| {
+            let mean = tail.iter().map(|(_, s)| s[i]).sum::<f64>() / tail.len() as f64;
+            let ups: Vec<f64> = tail
+                .windows(2)
+                .filter(|w| w[0].1[i] < mean && w[1].1[i] >= mean)
+                .map(|w| {
+                    let (t0, t1, a, b) = (w[0].0, w[1].0, w[0].1[i], w[1].1[i]);
+                    t0 + (mean - a) / (b - a) * (t1 - t0)
+                })
+                .collect();
+            (ups.len() >= 3).then_some((i, ups))
+        });
+    if let Some((i, ups)) = &oscillating {
+        let half = tail.len() / 2;
+        let (early, late) = (width(&tail[..half], *i), width(&tail[half..], *i));
+        if relative(*i) > 1e-3 && late > 0.9 * early {
             let period = (ups[ups.len() - 1] - ups[0]) / (ups.len() - 1) as f64;
-            return result(LongRunKind::Cycle, Some(period), min, max, extinct);
+            return reading(LongRunKind::Cycle, Some(period), false);
         }
     }
     let kind = if extinct.iter().any(|&e| e) {
@@ -608,7 +666,7 @@ pub fn long_run_over(
     } else {
         LongRunKind::Equilibrium
     };
-    result(kind, None, min, max, extinct)
+    reading(kind, None, oscillating.is_none() && !calm)
 }
 
 /// Everything `tussock analyze` reports.

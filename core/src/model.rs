@@ -165,9 +165,11 @@ pub struct Outcome {
 /// What theory guarantees about a model's long-run behaviour at given
 /// parameters, beyond what the eigenvalues of its equilibria say. Outcome
 /// maps use it to classify cells without simulating (see
-/// [`crate::sweep::map`]); every `true` must rest on a published argument
-/// named in the model's file. All `false` (the [`Default`]) is always safe:
-/// the cell is then simulated.
+/// [`crate::sweep::map`]), the solver to choose its coordinates (see
+/// [`crate::solve`](mod@crate::solve)); every `true` must rest on a
+/// published argument or the form of the equations, named in the model's
+/// file. All `false` (the [`Default`]) is always safe: the cell is then
+/// simulated, the run integrated in densities.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub struct Guarantees {
     /// Every orbit from non-negative densities stays bounded (the model is
@@ -184,6 +186,12 @@ pub struct Guarantees {
     /// [`ModelSpec::equilibria`] lists every equilibrium, so no search is
     /// needed.
     pub closed_forms_complete: bool,
+    /// Each species grows in proportion to itself: dx_i/dt = x_i·g_i(x)
+    /// with per-capita rates g_i finite at non-negative densities (no
+    /// immigration, harvest or stocking). A species at zero then stays
+    /// there and a positive one never reaches zero in finite time, however
+    /// deep it falls.
+    pub per_capita_growth: bool,
 }
 
 /// A curve in parameter space where a model's outcome changes, known in

@@ -1,12 +1,24 @@
 //! Integration of a [`Problem`] with adaptive Runge–Kutta (Dormand–Prince
 //! 5(4), "RK45", from `ode_solvers`).
 //!
-//! Populations never go negative: the right-hand side is evaluated at the
-//! state clamped to zero, a species at zero is not driven below it (a
-//! harvested species that reaches zero stays there unless immigration or
-//! stocking brings it back), and reported states are clamped too. A run that
-//! blows up, produces a non-finite number or cannot make progress stops and
-//! says so in [`Trajectory::stop`]; the times computed until then are kept.
+//! Where every species grows in proportion to itself
+//! ([`crate::model::Guarantees::per_capita_growth`]: no harvest, stocking
+//! or immigration in that stretch), the integrator works in logarithms,
+//! d(ln x)/dt = g(x), the per-capita rate: a positive density then stays
+//! positive, as in the equations, and is kept to a relative accuracy of
+//! `rtol` however small it gets (the troughs of strongly enriched
+//! predator–prey cycles fall below 1e-40). A species at exactly zero is
+//! absent and stays zero; a present one is reported as at least
+//! `f64::MIN_POSITIVE` (2.2e-308, when its density underflows), so it stays
+//! present when a run continues from a reported state.
+//!
+//! Elsewhere it works in densities, and populations never go negative: the
+//! right-hand side is evaluated at the state clamped to zero, a species at
+//! zero is not driven below it (a harvested species that reaches zero stays
+//! there unless immigration or stocking brings it back), and reported
+//! states are clamped too. A run that blows up, produces a non-finite
+//! number or cannot make progress stops and says so in [`Trajectory::stop`];
+//! the times computed until then are kept.
 
 use std::cell::Cell;
 
@@ -141,12 +153,92 @@ impl Trajectory {
     }
 }
 
+/// What the integrator's variables y are (see the module documentation).
+#[derive(Clone, Copy, Debug, PartialEq)]
+enum Coordinates {
+    /// The densities themselves.
+    Densities,
+    /// y = ln x for the species present; an absent one keeps y = 0.
+    Logs { present: [bool; 2] },
+}
+
+/// Per-capita rates are evaluated at no less than this density: below it a
+/// rate equals its limit at zero to about this relative amount, and
+/// products of two densities stay clear of underflow.
+const RATE_FLOOR: f64 = 1e-150;
+
+/// Per-capita growth rates (dx_i/dt)/x_i at `x` for the species present,
+/// zero for those at zero (see [`RATE_FLOOR`]).
+pub(crate) fn per_capita_rates(model: &ModelSpec, params: &Params, x: &State) -> State {
+    let mut at = *x;
+    for i in 0..2 {
+        if at[i] > 0.0 {
+            at[i] = at[i].max(RATE_FLOOR);
+        }
+    }
+    let dx = model.derivative(params, &at);
+    let mut rates = State::zeros();
+    for i in 0..2 {
+        if at[i] > 0.0 {
+            rates[i] = dx[i] / at[i];
+        }
+    }
+    rates
+}
+
+impl Coordinates {
+    /// Logarithms when the model grows per capita at `params` and no
+    /// density of `x0` is negative or undefined.
+    fn choose(model: &ModelSpec, params: &Params, x0: &State) -> Coordinates {
+        let n = model.n_species();
+        let valid = x0.iter().take(n).all(|v| *v >= 0.0 && v.is_finite());
+        if (model.guarantees)(params).per_capita_growth && valid {
+            Coordinates::Logs {
+                present: [0, 1].map(|i| i < n && x0[i] > 0.0),
+            }
+        } else {
+            Coordinates::Densities
+        }
+    }
+
+    fn variables(self, x: &State) -> State {
+        let Coordinates::Logs { present } = self else {
+            return *x;
+        };
+        let mut y = State::zeros();
+        for i in 0..2 {
+            if present[i] {
+                y[i] = libm::log(x[i]);
+            }
+        }
+        y
+    }
+
+    /// The densities at `y`; NaN stays NaN, for the caller to see.
+    fn density(self, y: &State) -> State {
+        let Coordinates::Logs { present } = self else {
+            return y.map(|v| if v <= 0.0 { 0.0 } else { v });
+        };
+        let mut x = State::zeros();
+        for i in 0..2 {
+            if present[i] {
+                let v = libm::exp(y[i]);
+                x[i] = if v < f64::MIN_POSITIVE {
+                    f64::MIN_POSITIVE
+                } else {
+                    v
+                };
+            }
+        }
+        x
+    }
+}
+
 struct Rhs<'a> {
     model: &'a ModelSpec,
     params: &'a Params,
+    coordinates: Coordinates,
     blow_up: f64,
-    /// Two species and no harvest: the fast path applies to positive states.
-    plain: bool,
     failure: Cell<Option<StopReason>>,
     evaluations: Cell<u32>,
 }
@@ -154,31 +246,37 @@ struct Rhs<'a> {
 // Implemented for a reference so the caller can read `failure` and
 // `evaluations` after the integrator (which owns its system) is done.
 impl System<f64, State> for &Rhs<'_> {
-    fn system(&self, _t: f64, x: &State, dx: &mut State) {
+    fn system(&self, _t: f64, y: &State, dy: &mut State) {
         self.evaluations
             .set(self.evaluations.get().saturating_add(1));
-        if self.plain && x[0] > 0.0 && x[1] > 0.0 {
-            // The common case: nothing to clamp, no harvest.
-            *dx = (self.model.rhs)(self.params, x);
+        if let Coordinates::Logs { present } = self.coordinates {
+            let mut x = State::zeros();
+            for i in 0..2 {
+                if present[i] {
+                    x[i] = libm::exp(y[i]).max(RATE_FLOOR);
+                }
+            }
+            *dy = per_capita_rates(self.model, self.params, &x);
             return;
         }
-        let clamped = x.map(|v| v.max(0.0));
-        *dx = self.model.derivative(self.params, &clamped);
+        let clamped = y.map(|v| v.max(0.0));
+        *dy = self.model.derivative(self.params, &clamped);
         // A species at zero cannot be harvested further: zero is absorbing
         // unless something (immigration, stocking) adds individuals.
         for i in 0..self.model.n_species() {
-            if clamped[i] == 0.0 && dx[i] < 0.0 {
-                dx[i] = 0.0;
+            if clamped[i] == 0.0 && dy[i] < 0.0 {
+                dy[i] = 0.0;
             }
         }
     }
 
-    fn solout(&mut self, t: f64, x: &State, _dx: &State) -> bool {
+    fn solout(&mut self, t: f64, y: &State, _dy: &State) -> bool {
         if self.failure.get().is_some() {
             return true;
         }
+        let x = self.coordinates.density(y);
         for i in 0..self.model.n_species() {
-            if !x[i].is_finite() {
+            if !y[i].is_finite() {
                 self.failure.set(Some(StopReason::NonFinite { t }));
                 return true;
             }
@@ -252,13 +350,20 @@ fn run_dopri(
     dense_step: Option<f64>,
     options: &SolverOptions,
 ) -> Piece {
+    let coordinates = Coordinates::choose(model, params, &x0);
     let rhs = Rhs {
         model,
         params,
+        coordinates,
         blow_up: options.blow_up,
-        plain: model.n_species() == 2 && params.harvest == State::zeros(),
         failure: Cell::new(None),
         evaluations: Cell::new(0),
+    };
+    // In logarithms an absolute error is a relative one in the density:
+    // rtol everywhere.
+    let (rtol, atol) = match coordinates {
+        Coordinates::Densities => (options.rtol, options.atol),
+        Coordinates::Logs { .. } => (0.0, options.rtol),
     };
     // ode_solvers 0.6.2 extrapolates its last dense-output point from the
     // step before the end when a grid time lands within 1e-9 of `x_end`
@@ -274,9 +379,9 @@ fn run_dopri(
         t0,
         x_end,
         dx,
-        x0,
-        options.rtol,
-        options.atol,
+        coordinates.variables(&x0),
+        rtol,
+        atol,
         0.9,  // safety factor (Hairer et al. default)
         0.04, // PI controller beta (Hairer et al. default)
         0.2,  // smallest step-size ratio
@@ -293,7 +398,7 @@ fn run_dopri(
     let outcome = stepper.integrate();
     let (raw_times, raw_states) = stepper.results().get();
     let mut times = raw_times.clone();
-    let mut states: Vec<State> = raw_states.iter().map(|s| s.map(|v| v.max(0.0))).collect();
+    let mut states: Vec<State> = raw_states.iter().map(|y| coordinates.density(y)).collect();
     drop(stepper);
     // A failing state may have been written out before it was checked; keep
     // only finite output.
@@ -452,7 +557,7 @@ fn integrate(
                 match advance(model, &p, x, a, g0, options, &mut out.stats) {
                     Ok(y) => {
                         out.times.push(g0);
-                        out.states.push(y.map(|v| v.max(0.0)));
+                        out.states.push(y);
                         (g0, y)
                     }
                     Err(stop) => {
@@ -487,7 +592,7 @@ fn integrate(
         next_k = last;
         if failed.is_none() && b > t + 1e-12 * b.abs().max(1.0) {
             match advance(model, &p, x, t, b, options, &mut out.stats) {
-                Ok(y) => x = y.map(|v| v.max(0.0)),
+                Ok(y) => x = y,
                 Err(stop) => failed = Some(stop),
             }
         }

@@ -6,12 +6,22 @@
 //! - Hopf threshold K_H = (e + m h) / (a h (e − m h)): the interior point is
 //!   stable for K < K_H and gives way to a limit cycle above it, the
 //!   "paradox of enrichment" (Rosenzweig 1971, Science 171:385).
+//! - However far above K_H, the cycle keeps both species: the positive
+//!   quadrant is invariant, so densities never reach zero in finite time
+//!   (Rosenzweig 1971 above; the cycle exists and is unique for every
+//!   K > K_H, Cheng 1981, SIAM J. Math. Anal. 12:541), though its troughs
+//!   get ever deeper (prey below 1e-40 at K = 500 in the greenhouse
+//!   example, by scipy's LSODA in tests/python/test_scipy_deep_cycles.py).
 
 mod common;
 
 use common::{assert_close, problem};
-use tussock_core::analysis::{analyze, LongRunKind, Stability};
+use tussock_core::analysis::{analyze, LongRun, LongRunKind, Stability};
 use tussock_core::models::rosenzweig_macarthur::{hopf_threshold, interior_prey};
+use tussock_core::sweep::line::{sweep_line, LineRequest};
+use tussock_core::sweep::map::{sweep_map, MapRequest, OutcomeClass};
+use tussock_core::sweep::{AxisSpec, Simulate, Spacing, SweepOptions};
+use tussock_core::Scenario;
 
 /// (r, a, h, e, m)
 const SETS: [[f64; 5]; 4] = [
@@ -133,5 +143,115 @@ fn eigenvalues_cross_the_imaginary_axis_at_the_hopf_threshold() {
         };
         assert!(re_at(kh * 0.999) < 0.0, "{set:?}");
         assert!(re_at(kh * 1.001) > 0.0, "{set:?}");
+    }
+}
+
+/// The greenhouse example (spider mite and predatory mite) with its
+/// carrying capacity set to `k`, and its own solver settings.
+fn greenhouse(k: f64) -> tussock_core::Problem {
+    let path = format!(
+        "{}/../examples/greenhouse-mites.json",
+        env!("CARGO_MANIFEST_DIR")
+    );
+    let text = std::fs::read_to_string(path).expect("the greenhouse example");
+    let mut s = Scenario::from_json(&text).expect("a valid example");
+    s.params.insert("K".to_string(), k);
+    s.validate().expect("a valid example")
+}
+
+/// A cycle with both species present, however deep its troughs.
+fn assert_cycle_with_both(what: &str, lr: &LongRun) {
+    assert_eq!(lr.kind, LongRunKind::Cycle, "{what}: {lr:?}");
+    assert_eq!(lr.extinct, [false, false], "{what}: {lr:?}");
+    assert!(lr.period.is_some_and(|p| p > 0.0), "{what}: {lr:?}");
+    for i in 0..2 {
+        assert!(
+            lr.min[i] > 0.0 && lr.min[i] < lr.max[i],
+            "{what}: species {i} {lr:?}"
+        );
+    }
+}
+
+/// Strong enrichment: at K = 500 and 1000 the greenhouse cycle dips below
+/// 1e-40 prey, far under any solver tolerance (at K = 5000 below the
+/// smallest f64, 2.2e-308, which is then reported); analysis and sweeps
+/// must still see a cycle with both species, with positive minima.
+#[test]
+fn deep_troughs_of_strongly_enriched_cycles_are_not_extinction() {
+    for k in [420.0, 500.0, 1000.0, 5000.0] {
+        let found = analyze(&greenhouse(k));
+        assert_cycle_with_both(&format!("analyze K = {k}"), &found.long_run);
+        assert!(found.long_run.min[0] < 1e-30, "{:?}", found.long_run);
+    }
+    let axis = AxisSpec {
+        param: "K".to_string(),
+        from: 500.0,
+        to: 1000.0,
+        steps: 2,
+        spacing: Spacing::Linear,
+    };
+    let line = LineRequest {
+        axis: axis.clone(),
+        options: SweepOptions::default(),
+    };
+    let sweep = sweep_line(&greenhouse(150.0), &line, &mut |_, _| true).expect("a valid sweep");
+    for point in &sweep.points {
+        let lr = point.long_run.as_ref().expect("a long run");
+        assert_cycle_with_both(&format!("sweep K = {}", point.value), lr);
+    }
+    // An outcome map that simulates every cell (theory alone already says
+    // limit cycle here, by Poincaré–Bendixson).
+    let map = MapRequest {
+        x: axis,
+        y: AxisSpec {
+            param: "m".to_string(),
+            from: 0.1,
+            to: 0.1,
+            steps: 1,
+            spacing: Spacing::Linear,
+        },
+        options: SweepOptions {
+            simulate: Simulate::Always,
+            ..SweepOptions::default()
+        },
+        shard: None,
+    };
+    let map = sweep_map(&greenhouse(150.0), &map, &mut |_, _| true).expect("a valid map");
+    for cell in &map.rows[0].cells {
+        assert_eq!(
+            cell.class,
+            OutcomeClass::LimitCycle,
+            "K = {}: {cell:?}",
+            cell.x
+        );
+        let cycle = cell.cycle.as_ref().expect("the cycle's range");
+        assert!(cycle.min.iter().all(|&m| m > 0.0), "{cycle:?}");
+    }
+}
+
+/// The long run switches from a stable equilibrium with both species to a
+/// cycle with both exactly at K_H = 1/(a h) + 2 m/(a (e − m h)) (Rosenzweig
+/// 1971), and stays a cycle with both for every K above it.
+#[test]
+fn greenhouse_classification_switches_at_the_hopf_formula() {
+    let (a, h, e, m) = (0.08, 0.1, 0.3, 0.1);
+    let kh = 1.0 / (a * h) + 2.0 * m / (a * (e - m * h));
+    assert_close("K_H", kh, 133.62, 1e-4, 0.0);
+    assert_close(
+        "K_H (core)",
+        hopf_threshold(&greenhouse(150.0).params).unwrap(),
+        kh,
+        1e-12,
+        0.0,
+    );
+    for factor in [0.8, 0.9, 1.1, 1.5, 2.0, 3.0, 4.0, 6.0, 8.0] {
+        let k = factor * kh;
+        let lr = analyze(&greenhouse(k)).long_run;
+        if k < kh {
+            assert_eq!(lr.kind, LongRunKind::Equilibrium, "K = {k}: {lr:?}");
+            assert_eq!(lr.extinct, [false, false], "K = {k}: {lr:?}");
+        } else {
+            assert_cycle_with_both(&format!("K = {k}"), &lr);
+        }
     }
 }

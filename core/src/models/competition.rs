@@ -73,7 +73,8 @@ pub static SPEC: ModelSpec = ModelSpec {
 /// div(B·f) = −r1/(K1·N2) − r2/(K2·N1) < 0, so there are no periodic orbits
 /// (Bendixson–Dulac; e.g. Hofbauer & Sigmund 1998, Evolutionary Games and
 /// Population Dynamics, §3.3; from memory). The four closed-form equilibria
-/// are all of them unless 1 − α12·α21 = 0.
+/// are all of them unless 1 − α12·α21 = 0. Both equations have the factor
+/// N1 or N2 (per-capita rates linear in the densities).
 fn guarantees(p: &Params) -> Guarantees {
     let plain = super::unharvested(p);
     Guarantees {
@@ -81,6 +82,7 @@ fn guarantees(p: &Params) -> Guarantees {
         no_cycles: plain && p[R1] > 0.0 && p[R2] > 0.0,
         stable_interior_is_global: false,
         closed_forms_complete: plain && (1.0 - p[ALPHA12] * p[ALPHA21]).abs() > 1e-12,
+        per_capita_growth: plain,
     }
 }
 

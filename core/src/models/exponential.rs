@@ -79,6 +79,7 @@ pub static SPEC: ModelSpec = ModelSpec {
 
 /// One species: no cycles. Bounded when the net rate is negative; the one
 /// closed-form equilibrium is the only one unless the net rate is zero.
+/// Every term but immigration has the factor N.
 fn guarantees(p: &Params) -> Guarantees {
     let plain = super::unharvested(p);
     Guarantees {
@@ -86,6 +87,7 @@ fn guarantees(p: &Params) -> Guarantees {
         no_cycles: true,
         stable_interior_is_global: false,
         closed_forms_complete: plain && net_rate(p) != 0.0,
+        per_capita_growth: plain && p[IMMIGRATION] == 0.0,
     }
 }
 

@@ -70,7 +70,8 @@ pub static SPEC: ModelSpec = ModelSpec {
 /// One species: no cycles, and bounded by its carrying capacity plus what
 /// immigration brings. The quadratic's roots are every equilibrium when
 /// r = b − d ≠ 0; with an Allee threshold, 0, A and K are every equilibrium
-/// only without immigration and emigration.
+/// only without immigration and emigration. Every term but immigration has
+/// the factor N.
 fn guarantees(p: &Params) -> Guarantees {
     let plain = super::unharvested(p);
     let complete = if p[ALLEE] > 0.0 {
@@ -83,6 +84,7 @@ fn guarantees(p: &Params) -> Guarantees {
         no_cycles: true,
         stable_interior_is_global: false,
         closed_forms_complete: plain && complete,
+        per_capita_growth: plain && p[IMMIGRATION] == 0.0,
     }
 }
 

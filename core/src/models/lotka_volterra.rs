@@ -63,7 +63,8 @@ pub static SPEC: ModelSpec = ModelSpec {
 /// B = 1/(N·P) is a Dulac function: div(B·f) = −r/(K·P) < 0, so there are
 /// no periodic orbits (Bendixson–Dulac; e.g. Kot 2001, Elements of
 /// Mathematical Ecology, §6; from memory). Without K the neutral cycles of
-/// the classical model remain and nothing is guaranteed.
+/// the classical model remain and nothing is guaranteed. Both equations
+/// have the factor N or P (per-capita rates linear in the densities).
 fn guarantees(p: &Params) -> Guarantees {
     let plain = super::unharvested(p);
     let limited = plain && p[K].is_finite();
@@ -72,6 +73,7 @@ fn guarantees(p: &Params) -> Guarantees {
         no_cycles: limited && p[R] > 0.0,
         stable_interior_is_global: false,
         closed_forms_complete: plain && p[E] * p[A] > 0.0,
+        per_capita_growth: plain,
     }
 }
 

@@ -103,6 +103,8 @@ pub static SPEC: ModelSpec = ModelSpec {
 /// 39:1–10; the limit cycle above K_H is unique, Cheng 1981, SIAM J. Math.
 /// Anal. 12:541). Types I–III have one interior prey density at most, so
 /// their closed forms are complete; Beddington–DeAngelis needs a search.
+/// Both equations have the factor N or P, with per-capita rates finite at
+/// non-negative densities (1 + a h N + c P ≥ 1).
 fn guarantees(p: &Params) -> Guarantees {
     let plain = super::unharvested(p);
     Guarantees {
@@ -110,6 +112,7 @@ fn guarantees(p: &Params) -> Guarantees {
         no_cycles: plain && p.choice == HOLLING_I && p[R] > 0.0,
         stable_interior_is_global: plain && p.choice == HOLLING_II,
         closed_forms_complete: plain && p.choice != BEDDINGTON_DEANGELIS,
+        per_capita_growth: plain,
     }
 }
 

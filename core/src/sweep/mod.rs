@@ -110,7 +110,8 @@ pub struct SweepOptions {
     /// scenario's horizon; see [`crate::analysis::long_run_horizon`]).
     pub horizon: Option<f64>,
     /// Output points in the last quarter of each long run, where the
-    /// minimum, maximum and kind are read.
+    /// minimum, maximum and kind are read (as many again each time a slow
+    /// cycle doubles that window; see [`crate::analysis::long_run_over`]).
     pub samples: usize,
     /// When map cells are simulated.
     pub simulate: Simulate,
