@@ -302,7 +302,8 @@ impl Schedule {
                     if count == Some(0) {
                         return Err(invalid(path("count"), "must be at least 1"));
                     }
-                    let until_horizon = ((t_end - e.time) / every + 1e-9).floor() as u64 + 1;
+                    let until_horizon =
+                        (((t_end - e.time) / every + 1e-9).floor() as u64).saturating_add(1);
                     let n = count.map_or(until_horizon, u64::from).min(until_horizon);
                     if n as usize > MAX_PULSES {
                         return Err(invalid(

@@ -211,3 +211,16 @@ proptest! {
         read_as_counts(&replace_number(CSVS[which], k, &value));
     }
 }
+
+/// Found by `an_example_scenario_with_an_odd_number`: a repeat spacing of
+/// 2.2e-293 made the pulse count overflow u64 (a panic in debug builds,
+/// zero pulses in release). It must be refused as too many pulses.
+#[test]
+fn crash_tiny_repeat_spacing_overflows_the_pulse_count() {
+    let json = r#"{"model": "logistic", "params": {"b": 1, "d": 0.1, "K": 10}, "initial": [1],
+        "t_end": 10, "events": [{"time": 0, "species": 0, "add": 1, "every": 2.2151342262724665e-293}]}"#;
+    let err = tussock_core::Scenario::from_json(json)
+        .and_then(|s| s.validate())
+        .expect_err("must be refused");
+    assert!(err.to_string().contains("pulses"), "{err}");
+}
