@@ -440,22 +440,9 @@ pub fn map_cell(map: &OutcomeMap, x: f64, y: f64) -> Option<&MapCell> {
         .and_then(|r| r.cells.get(col))
 }
 
-/// Lower-case letters, digits and single dashes, for file names.
+/// A file name part ([`tussock_charts::slug`]), `tussock` when nothing is left.
 pub fn slug(text: &str) -> String {
-    let mut out = String::new();
-    for c in text.chars() {
-        if c.is_ascii_alphanumeric() {
-            out.push(c.to_ascii_lowercase());
-        } else if !out.ends_with('-') && !out.is_empty() {
-            out.push('-');
-        }
-    }
-    let out = out.trim_end_matches('-').to_string();
-    if out.is_empty() {
-        "tussock".to_string()
-    } else {
-        out
-    }
+    tussock_charts::slug(text, "tussock")
 }
 
 #[cfg(test)]

@@ -23,6 +23,25 @@ pub mod plan;
 pub mod stochastic;
 pub mod sweep;
 pub mod tables;
+
+/// Lower-case letters, digits and single dashes, for file names; `fallback`
+/// when nothing is left.
+pub fn slug(text: &str, fallback: &str) -> String {
+    let mut out = String::new();
+    for c in text.chars() {
+        if c.is_ascii_alphanumeric() {
+            out.push(c.to_ascii_lowercase());
+        } else if !out.is_empty() && !out.ends_with('-') {
+            out.push('-');
+        }
+    }
+    let out = out.trim_end_matches('-');
+    if out.is_empty() {
+        fallback.to_string()
+    } else {
+        out.to_string()
+    }
+}
 #[cfg(test)]
 mod testing;
 pub mod workbench;

@@ -50,22 +50,9 @@ impl OutDir {
     }
 }
 
-/// Lower-case letters, digits and single dashes, for file names.
+/// A file name part ([`tussock_charts::slug`]), `species` when nothing is left.
 pub fn slug(text: &str) -> String {
-    let mut out = String::new();
-    for c in text.chars() {
-        if c.is_ascii_alphanumeric() {
-            out.push(c.to_ascii_lowercase());
-        } else if !out.is_empty() && !out.ends_with('-') {
-            out.push('-');
-        }
-    }
-    let out = out.trim_end_matches('-');
-    if out.is_empty() {
-        "species".to_string()
-    } else {
-        out.to_string()
-    }
+    tussock_charts::slug(text, "species")
 }
 
 /// A file name part per species, from its name, distinct even when two

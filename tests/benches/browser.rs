@@ -146,7 +146,7 @@ async fn outcome_map(b: &Browser) -> f64 {
         ("#sweep-y-to", "0.4"),
         ("#sweep-y-steps", "200"),
     ] {
-        set(b, css, value).await;
+        b.paste_into(css, value).await;
     }
     let started = std::time::Instant::now();
     b.click("#sweep-run").await;
@@ -162,7 +162,7 @@ async fn outcome_map(b: &Browser) -> f64 {
 async fn busy_redraws(b: &Browser, edit: &str) -> Vec<f64> {
     b.open_app().await;
     b.click("#view-chance").await;
-    set(b, "#chance-runs", "10000").await;
+    b.paste_into("#chance-runs", "10000").await;
     b.click("#chance-run").await;
     b.click("#view-simulate").await;
     let busy = "return document.querySelector('.views .busy') !== null;";
@@ -183,18 +183,6 @@ async fn busy_redraws(b: &Browser, edit: &str) -> Vec<f64> {
         }
     }
     times
-}
-
-/// Set a field or choice in one step, as a paste or a pick does.
-async fn set(b: &Browser, css: &str, value: &str) {
-    b.client
-        .execute(
-            "const f = document.querySelector(arguments[0]); f.value = arguments[1]; f.dispatchEvent(new Event(f.tagName === 'SELECT' ? 'change' : 'input', {bubbles: true}));",
-            vec![json!(css), json!(value)],
-        )
-        .await
-        .expect("set a field");
-    b.settle().await;
 }
 
 fn main() {

@@ -361,11 +361,12 @@ impl Browser {
         }
     }
 
-    /// Set a form field's value the way a paste does (one input event).
+    /// Set a form field's value the way a paste does (one input event), or
+    /// a choice the way a pick does (one change event).
     pub async fn paste_into(&self, css: &str, text: &str) {
         self.client
             .execute(
-                "const f = document.querySelector(arguments[0]); f.value = arguments[1]; f.dispatchEvent(new Event('input', {bubbles: true}));",
+                "const f = document.querySelector(arguments[0]); f.value = arguments[1]; f.dispatchEvent(new Event(f.tagName === 'SELECT' ? 'change' : 'input', {bubbles: true}));",
                 vec![json!(css), json!(text)],
             )
             .await
