@@ -195,6 +195,12 @@ def main():
         print(f"| {label} | {ours * 1e6:.1f} µs | {theirs * 1e3:.2f} ms | "
               f"{(f'{rr * 1e3:.2f} ms') if rr else 'not measured (no Rscript)'} | "
               f"{theirs / ours:.0f}× faster | {(f'{rr / ours:.0f}× faster') if rr else '–'} |")
+    alone = t["library_alone"]["seconds"]
+    rr = r["standard"] if r else None
+    print(f"| standard problem on `ode_solvers` alone (plain closure, densities: the library's floor) | "
+          f"{alone * 1e6:.1f} µs | {s['standard'] * 1e3:.2f} ms | "
+          f"{(f'{rr * 1e3:.2f} ms') if rr else '–'} | {s['standard'] / alone:.0f}× faster | "
+          f"{(f'{rr / alone:.0f}× faster') if rr else '–'} |")
     map_table()
     fit = tussock("time_fits")
     scipy_seconds, scipy_best = time_scipy_fit(fit)

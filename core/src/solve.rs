@@ -208,7 +208,7 @@ impl Coordinates {
         let mut y = State::zeros();
         for i in 0..2 {
             if present[i] {
-                y[i] = libm::log(x[i]);
+                y[i] = x[i].ln();
             }
         }
         y
@@ -222,7 +222,7 @@ impl Coordinates {
         let mut x = State::zeros();
         for i in 0..2 {
             if present[i] {
-                let v = libm::exp(y[i]);
+                let v = y[i].exp();
                 x[i] = if v < f64::MIN_POSITIVE {
                     f64::MIN_POSITIVE
                 } else {
@@ -238,9 +238,40 @@ struct Rhs<'a> {
     model: &'a ModelSpec,
     params: &'a Params,
     coordinates: Coordinates,
+    /// In logarithms: 1 for a species present, 0 otherwise; and the reverse.
+    present: State,
+    absent: State,
+    /// [`SolverOptions::blow_up`] in the integrator's variables.
     blow_up: f64,
     failure: Cell<Option<StopReason>>,
     evaluations: Cell<u32>,
+}
+
+impl<'a> Rhs<'a> {
+    fn new(
+        model: &'a ModelSpec,
+        params: &'a Params,
+        coordinates: Coordinates,
+        blow_up: f64,
+    ) -> Self {
+        let (present, blow_up) = match coordinates {
+            Coordinates::Densities => (State::zeros(), blow_up),
+            Coordinates::Logs { present } => (
+                State::from_fn(|i, _| if present[i] { 1.0 } else { 0.0 }),
+                blow_up.ln(),
+            ),
+        };
+        Rhs {
+            model,
+            params,
+            coordinates,
+            present,
+            absent: State::repeat(1.0) - present,
+            blow_up,
+            failure: Cell::new(None),
+            evaluations: Cell::new(0),
+        }
+    }
 }
 
 // Implemented for a reference so the caller can read `failure` and
@@ -249,14 +280,16 @@ impl System<f64, State> for &Rhs<'_> {
     fn system(&self, _t: f64, y: &State, dy: &mut State) {
         self.evaluations
             .set(self.evaluations.get().saturating_add(1));
-        if let Coordinates::Logs { present } = self.coordinates {
-            let mut x = State::zeros();
-            for i in 0..2 {
-                if present[i] {
-                    x[i] = libm::exp(y[i]).max(RATE_FLOOR);
-                }
-            }
-            *dy = per_capita_rates(self.model, self.params, &x);
+        if let Coordinates::Logs { .. } = self.coordinates {
+            // The per-capita rates of `per_capita_rates`, without branches:
+            // an absent species has y = 0, so x = 0 and a divisor of 1.
+            // No harvest here (that is what allows logarithms).
+            let x = y
+                .map(|v| v.exp().max(RATE_FLOOR))
+                .component_mul(&self.present);
+            let dx = (self.model.rhs)(self.params, &x);
+            let divisor = x + self.absent;
+            *dy = dx.component_div(&divisor).component_mul(&self.present);
             return;
         }
         let clamped = y.map(|v| v.max(0.0));
@@ -274,13 +307,12 @@ impl System<f64, State> for &Rhs<'_> {
         if self.failure.get().is_some() {
             return true;
         }
-        let x = self.coordinates.density(y);
         for i in 0..self.model.n_species() {
             if !y[i].is_finite() {
                 self.failure.set(Some(StopReason::NonFinite { t }));
                 return true;
             }
-            if x[i] > self.blow_up {
+            if y[i] > self.blow_up {
                 self.failure.set(Some(StopReason::BlewUp { t, species: i }));
                 return true;
             }
@@ -351,14 +383,7 @@ fn run_dopri(
     options: &SolverOptions,
 ) -> Piece {
     let coordinates = Coordinates::choose(model, params, &x0);
-    let rhs = Rhs {
-        model,
-        params,
-        coordinates,
-        blow_up: options.blow_up,
-        failure: Cell::new(None),
-        evaluations: Cell::new(0),
-    };
+    let rhs = Rhs::new(model, params, coordinates, options.blow_up);
     // In logarithms an absolute error is a relative one in the density:
     // rtol everywhere.
     let (rtol, atol) = match coordinates {
