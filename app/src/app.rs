@@ -61,12 +61,15 @@ pub fn app() -> Html {
             }
         });
     }
-    // Ctrl+Z / Ctrl+Shift+Z (and Ctrl+Y) outside text fields.
+    // Ctrl+Z / Ctrl+Shift+Z (and Ctrl+Y) outside text fields. The listener
+    // must not be passive (gloo's default): it cancels the browser's own
+    // undo, and a passive listener cannot (Chromium logs an error).
     {
         let d = bench.dispatcher();
         use_effect_with((), move |_| {
+            let options = gloo_events::EventListenerOptions::enable_prevent_default();
             let listener = web_sys::window().map(|w| {
-                gloo_events::EventListener::new(&w, "keydown", move |event| {
+                gloo_events::EventListener::new_with_options(&w, "keydown", options, move |event| {
                     let Some(key) = event.dyn_ref::<web_sys::KeyboardEvent>() else {
                         return;
                     };

@@ -105,6 +105,41 @@ impl WebDriverCompatibleCommand for BrowserLog {
     }
 }
 
+/// A Chrome DevTools Protocol command, sent through ChromeDriver.
+#[derive(Debug)]
+pub struct DevTools {
+    pub cmd: &'static str,
+    pub params: serde_json::Value,
+}
+
+impl WebDriverCompatibleCommand for DevTools {
+    fn endpoint(
+        &self,
+        base: &url::Url,
+        session: Option<&str>,
+    ) -> Result<url::Url, url::ParseError> {
+        base.join(&format!(
+            "session/{}/goog/cdp/execute",
+            session.unwrap_or_default()
+        ))
+    }
+    fn method_and_body(&self, _url: &url::Url) -> (http::Method, Option<String>) {
+        (
+            http::Method::POST,
+            Some(json!({"cmd": self.cmd, "params": self.params}).to_string()),
+        )
+    }
+}
+
+/// Memory of the page after a garbage collection, in bytes.
+#[derive(Clone, Copy, Debug)]
+pub struct PageMemory {
+    /// The JavaScript heap in use.
+    pub js_heap: f64,
+    /// The linear memory of every WebAssembly instance in the page.
+    pub wasm: f64,
+}
+
 pub struct Browser {
     pub client: Client,
     driver: Child,
@@ -273,6 +308,60 @@ impl Browser {
                     .collect()
             })
             .unwrap_or_default()
+    }
+
+    /// Collect garbage, then read the page's heap (DevTools' Runtime.getHeapUsage).
+    pub async fn memory(&self) -> PageMemory {
+        let gc = DevTools {
+            cmd: "HeapProfiler.collectGarbage",
+            params: json!({}),
+        };
+        self.client.issue_cmd(gc).await.expect("collect garbage");
+        let usage = DevTools {
+            cmd: "Runtime.getHeapUsage",
+            params: json!({}),
+        };
+        let v = self.client.issue_cmd(usage).await.expect("read the heap");
+        PageMemory {
+            js_heap: v["usedSize"].as_f64().unwrap_or(f64::NAN),
+            wasm: self.wasm_memory().await,
+        }
+    }
+
+    /// Bytes of linear memory of all live `WebAssembly.Memory` objects,
+    /// found through DevTools' Runtime.queryObjects (the page's bindings
+    /// keep theirs private).
+    async fn wasm_memory(&self) -> f64 {
+        let cdp = |cmd, params| DevTools { cmd, params };
+        let proto = self
+            .client
+            .issue_cmd(cdp(
+                "Runtime.evaluate",
+                json!({"expression": "WebAssembly.Memory.prototype"}),
+            ))
+            .await
+            .expect("find WebAssembly.Memory");
+        let found = self
+            .client
+            .issue_cmd(cdp(
+                "Runtime.queryObjects",
+                json!({"prototypeObjectId": proto["result"]["objectId"]}),
+            ))
+            .await
+            .expect("query the memories");
+        let total = self
+            .client
+            .issue_cmd(cdp(
+                "Runtime.callFunctionOn",
+                json!({
+                    "objectId": found["objects"]["objectId"],
+                    "functionDeclaration": "function () { return this.reduce((s, m) => s + m.buffer.byteLength, 0); }",
+                    "returnByValue": true
+                }),
+            ))
+            .await
+            .expect("add up their sizes");
+        total["result"]["value"].as_f64().unwrap_or(f64::NAN)
     }
 
     pub async fn value_of(&self, css: &str) -> String {
