@@ -3,23 +3,15 @@
 //! (issue 8's target: ≤ 2 s native for exact runs), exact and automatic.
 
 use criterion::{criterion_group, criterion_main, Criterion};
-use tussock_core::bench_problems::rosenzweig_macarthur_365_days;
-use tussock_core::stochastic::{run_ensemble, EnsembleOptions, Method, StochasticOptions};
+use tussock_core::bench_problems::{rosenzweig_macarthur_365_days, thousand_runs};
+use tussock_core::stochastic::{run_ensemble, Method};
 
-fn thousand_runs(c: &mut Criterion) {
+fn ensembles(c: &mut Criterion) {
     let problem = rosenzweig_macarthur_365_days();
     let mut group = c.benchmark_group("ensemble");
     group.sample_size(10);
     for (name, method) in [("exact", Method::Exact), ("auto", Method::Auto)] {
-        let options = EnsembleOptions {
-            runs: 1000,
-            seed: 1,
-            simulation: StochasticOptions {
-                method,
-                ..StochasticOptions::default()
-            },
-            ..EnsembleOptions::default()
-        };
+        let options = thousand_runs(method);
         group.bench_function(
             format!("1000 {name} runs, rosenzweig_macarthur 365 days"),
             |b| b.iter(|| run_ensemble(&problem, &options, &mut |_, _| true)),
@@ -28,5 +20,5 @@ fn thousand_runs(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(benches, thousand_runs);
+criterion_group!(benches, ensembles);
 criterion_main!(benches);

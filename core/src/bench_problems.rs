@@ -3,6 +3,7 @@
 
 use crate::models;
 use crate::scenario::{Problem, Scenario};
+use crate::stochastic::{EnsembleOptions, Method, StochasticOptions};
 use crate::sweep::map::MapRequest;
 use crate::sweep::{AxisSpec, Simulate, Spacing, SweepOptions};
 
@@ -196,4 +197,18 @@ pub fn rosenzweig_macarthur_365_days() -> Problem {
         1.0,
         1e-8,
     )
+}
+
+/// The ensemble benchmarks' settings for [`rosenzweig_macarthur_365_days`]:
+/// 1,000 runs from seed 1 with `method`.
+pub fn thousand_runs(method: Method) -> EnsembleOptions {
+    EnsembleOptions {
+        runs: 1000,
+        seed: 1,
+        simulation: StochasticOptions {
+            method,
+            ..StochasticOptions::default()
+        },
+        ..EnsembleOptions::default()
+    }
 }

@@ -102,6 +102,7 @@ async fn measure() -> String {
         }
     }
     let map_seconds = outcome_map(&b).await;
+    let (browser_ensemble, native_ensemble) = ensemble(&b).await;
     let mut busy = busy_redraws(&b, script).await;
     b.close().await;
     busy.sort_by(f64::total_cmp);
@@ -117,7 +118,9 @@ async fn measure() -> String {
          | edit to both charts redrawn, median of {} edits | {:.1} ms |\n\
          | edit to both charts redrawn, 95th percentile | {:.1} ms |\n\
          | 200 × 200 Rosenzweig–MacArthur outcome map to t = 2000 (worker), click to finished | {:.2} s |\n\
-         | edit to both charts redrawn while the worker runs 10,000 stochastic runs, median of {} edits | {:.1} ms |\n",
+         | edit to both charts redrawn while the worker runs 10,000 stochastic runs, median of {} edits | {:.1} ms |\n\
+         | 1,000 exact stochastic runs, RM ~1,000 individuals, 365 days: the page's worker, click to finished | {:.2} s |\n\
+         | the same runs on the native core, one thread, in this process | {:.2} s ({:.2}× faster than the page) |\n",
         kb(start_bytes),
         kb(worker_bytes),
         quantile(&loads, 0.5),
@@ -127,6 +130,9 @@ async fn measure() -> String {
         map_seconds,
         busy.len(),
         quantile(&busy, 0.5),
+        browser_ensemble,
+        native_ensemble,
+        browser_ensemble / native_ensemble,
     )
 }
 
@@ -155,6 +161,55 @@ async fn outcome_map(b: &Browser) -> f64 {
     })
     .await;
     started.elapsed().as_secs_f64()
+}
+
+/// Seconds from the click to the finished ensemble for 1,000 exact runs of
+/// the benchmark case (`bench_problems::rosenzweig_macarthur_365_days`,
+/// seed 1) in the page's worker, and for the same runs on the native core
+/// in this process. The two must count the same extinctions (the same seed
+/// gives the same runs on both), which is checked.
+async fn ensemble(b: &Browser) -> (f64, f64) {
+    use tussock_core::bench_problems::{rosenzweig_macarthur_365_days, thousand_runs};
+    use tussock_core::stochastic::{run_ensemble, Method};
+    let problem = rosenzweig_macarthur_365_days();
+    let options = thousand_runs(Method::Exact);
+    let started = std::time::Instant::now();
+    let native = run_ensemble(&problem, &options, &mut |_, _| true).expect("the native ensemble");
+    let native_seconds = started.elapsed().as_secs_f64();
+
+    b.open_app().await;
+    for (css, value) in [
+        ("#param-r", "0.2"),
+        ("#param-K", "1000"),
+        ("#param-a", "0.001"),
+        ("#param-h", "0.5"),
+        ("#param-e", "0.2"),
+        ("#param-m", "0.1"),
+        ("#initial-0", "800"),
+        ("#initial-1", "100"),
+        ("#horizon", "365"),
+    ] {
+        b.paste_into(css, value).await;
+    }
+    b.click("#view-chance").await;
+    b.paste_into("#chance-runs", "1000").await;
+    b.paste_into("#chance-seed", "1").await;
+    b.select("#chance-method", "exact").await;
+    let started = std::time::Instant::now();
+    b.click("#chance-run").await;
+    b.wait_for_text("#job-ensemble", 600, |t| {
+        t.contains("finished") || t.contains("failed")
+    })
+    .await;
+    let browser_seconds = started.elapsed().as_secs_f64();
+    let risks = b.text_of("#chance-risks").await;
+    for p in &native.extinction {
+        let expected = format!("dies out by 365 days in {} of {} runs", p.count, p.runs);
+        if !risks.contains(&expected) {
+            eprintln!("the page and the native core disagree: native {expected:?}, page {risks:?}");
+        }
+    }
+    (browser_seconds, native_seconds)
 }
 
 /// Redraw times of workbench edits made while the worker is busy with
