@@ -6,7 +6,8 @@
 
 use std::rc::Rc;
 
-use tussock_charts::{AreaShift, DrawResult, DrawingArea, DrawingBackend};
+use tussock_charts::record::Recording;
+use tussock_charts::{AreaShift, DrawResult, DrawingArea, DrawingBackend, PlotMap};
 use tussock_core::analysis::round_sig;
 use tussock_core::data::CountData;
 use tussock_core::fit::FitResult;
@@ -212,9 +213,23 @@ impl Figure {
         slug(&what)
     }
 
+    /// The figure's drawing on a `width` × `height` area at `scale`, ready
+    /// to play onto the page's canvas or into an SVG, and where its data
+    /// sit. The page draws only through recordings, so the drawing code is
+    /// compiled once, not once per backend (a smaller download).
+    pub fn record(
+        &self,
+        width: u32,
+        height: u32,
+        scale: f64,
+    ) -> Result<(Recording, PlotMap), String> {
+        Recording::make(width, height, |root| self.draw(root, scale))
+    }
+
     /// The figure as an SVG document.
     pub fn to_svg(&self) -> Result<String, String> {
-        tussock_charts::to_svg(EXPORT_SIZE.0, EXPORT_SIZE.1, |root| self.draw(root, 1.0))
+        let (w, h) = EXPORT_SIZE;
+        self.record(w, h, 1.0)?.0.to_svg(w, h)
     }
 
     /// Readout for the point under the pointer, in data coordinates.

@@ -20,6 +20,7 @@ use plotters_backend::{BackendCoord, DrawingErrorKind};
 pub mod compare;
 pub mod fit;
 pub mod plan;
+pub mod record;
 pub mod stochastic;
 pub mod sweep;
 pub mod tables;

@@ -364,17 +364,21 @@ impl Browser {
         total["result"]["value"].as_f64().unwrap_or(f64::NAN)
     }
 
+    /// The value of a field, read in one step in the page (a find and then
+    /// a read can miss when the view re-renders in between).
     pub async fn value_of(&self, css: &str) -> String {
-        let field = self
+        let value = self
             .client
-            .find(Locator::Css(css))
+            .execute(
+                "const e = document.querySelector(arguments[0]); return e ? String(e.value) : null;",
+                vec![json!(css)],
+            )
             .await
-            .expect("find the field");
-        field
-            .prop("value")
-            .await
-            .expect("read its value")
-            .unwrap_or_default()
+            .expect("read the field");
+        match value.as_str() {
+            Some(v) => v.to_string(),
+            None => panic!("no field {css}"),
+        }
     }
 
     pub async fn assert_clean_console(&self) {

@@ -5,7 +5,6 @@
 use std::cell::Cell;
 use std::rc::Rc;
 
-use plotters::prelude::*;
 use plotters_canvas::CanvasBackend;
 use tussock_charts::PlotMap;
 use wasm_bindgen::{JsCast, JsValue};
@@ -169,10 +168,11 @@ fn draw(canvas: &HtmlCanvasElement, figure: &Figure) -> Result<PlotMap, String> 
     if canvas.height() != h {
         canvas.set_height(h);
     }
-    let backend = CanvasBackend::with_canvas_object(canvas.clone())
+    let (recording, map) = figure.record(w, h, scale)?;
+    let mut backend = CanvasBackend::with_canvas_object(canvas.clone())
         .ok_or_else(|| "canvas has no 2D context".to_string())?;
-    let root = backend.into_drawing_area();
-    figure.draw(&root, scale)
+    recording.play(&mut backend)?;
+    Ok(map)
 }
 
 /// Draw the figure at twice the export size on a canvas off the page and
@@ -189,9 +189,10 @@ fn export_png(figure: &Figure) -> Result<(), String> {
     let scale = 2.0;
     canvas.set_width(EXPORT_SIZE.0 * 2);
     canvas.set_height(EXPORT_SIZE.1 * 2);
-    let backend =
+    let (recording, _) = figure.record(EXPORT_SIZE.0 * 2, EXPORT_SIZE.1 * 2, scale)?;
+    let mut backend =
         CanvasBackend::with_canvas_object(canvas.clone()).ok_or("canvas has no 2D context")?;
-    figure.draw(&backend.into_drawing_area(), scale)?;
+    recording.play(&mut backend)?;
     let url = canvas
         .to_data_url_with_type("image/png")
         .map_err(|_| "the browser refused to encode the PNG")?;
