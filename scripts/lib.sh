@@ -43,6 +43,19 @@ require_cargo() {
     command -v cargo >/dev/null || die "cargo not found: install Rust with rustup (https://rustup.rs) and try again"
 }
 
+# rustfmt and clippy: part of rustup's default profile; added when missing.
+ensure_lints() {
+    if cargo fmt --version >/dev/null 2>&1 && cargo clippy --version >/dev/null 2>&1; then
+        return
+    fi
+    if command -v rustup >/dev/null; then
+        say "adding rustfmt and clippy with rustup"
+        rustup component add rustfmt clippy >/dev/null 2>&1 || true
+    fi
+    cargo fmt --version >/dev/null 2>&1 && cargo clippy --version >/dev/null 2>&1 ||
+        die "rustfmt and clippy are needed: rustup component add rustfmt clippy"
+}
+
 wasm_bindgen_version() {
     # The wasm-bindgen-cli must match the crate in Cargo.lock exactly.
     awk '/^name = "wasm-bindgen"$/ { getline; gsub(/version = |"/, ""); print; exit }' "$ROOT/Cargo.lock"
