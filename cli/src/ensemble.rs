@@ -162,26 +162,6 @@ fn parallel_ensemble(ensemble: &Ensemble, runs: u64) -> EnsembleAccumulator {
         )
 }
 
-fn quasi_levels(given: &Option<Vec<String>>) -> Result<Option<[Option<f64>; 2]>> {
-    let Some(given) = given else {
-        return Ok(None);
-    };
-    if given.is_empty() || given.len() > 2 {
-        bail!("--quasi-extinction: give one level per species (\"none\" for no level)");
-    }
-    let mut levels = [None; 2];
-    for (i, text) in given.iter().enumerate() {
-        let text = text.trim();
-        if text != "none" {
-            let v: f64 = text
-                .parse()
-                .map_err(|_| anyhow::anyhow!("--quasi-extinction: not a number: {text:?}"))?;
-            levels[i] = Some(v);
-        }
-    }
-    Ok(Some(levels))
-}
-
 pub fn ensemble(args: &EnsembleArgs) -> Result<()> {
     let problem = crate::load_problem(&args.file)?;
     let out_dir = OutDir::open(args.out.as_ref())?;
@@ -192,7 +172,7 @@ pub fn ensemble(args: &EnsembleArgs) -> Result<()> {
         keep_runs: args.keep,
         max_intervals: args.intervals,
         pest_day: args.pest_day,
-        quasi_extinction: quasi_levels(&args.quasi_extinction)?,
+        quasi_extinction: tussock_cli::parse::quasi_levels(&args.quasi_extinction)?,
         ..EnsembleOptions::default()
     };
     let ensemble = Ensemble::new(&problem, &options)?;

@@ -1,6 +1,5 @@
 //! `tussock fit`: fit a scenario's model to counts in a CSV file.
 
-use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 use anyhow::{bail, Context, Result};
@@ -49,27 +48,6 @@ pub struct FitArgs {
     out: Option<PathBuf>,
 }
 
-fn parse_bounds(items: &[String]) -> Result<BTreeMap<String, (f64, f64)>> {
-    let mut out = BTreeMap::new();
-    for item in items.iter().filter(|s| !s.trim().is_empty()) {
-        let parsed = item.split_once('=').and_then(|(name, range)| {
-            let (lo, hi) = range.split_once(':')?;
-            Some((
-                name.trim().to_string(),
-                lo.trim().parse::<f64>().ok()?,
-                hi.trim().parse::<f64>().ok()?,
-            ))
-        });
-        let Some((name, lo, hi)) = parsed else {
-            bail!("--bounds: \"{item}\" is not of the form name=lower:upper (e.g. r=0.01:5)");
-        };
-        if out.insert(name.clone(), (lo, hi)).is_some() {
-            bail!("--bounds: {name} is given twice");
-        }
-    }
-    Ok(out)
-}
-
 fn read_text(path: &Path) -> Result<String> {
     let bytes = std::fs::read(path).with_context(|| format!("cannot read {}", path.display()))?;
     String::from_utf8(bytes)
@@ -96,7 +74,7 @@ pub fn run(args: &FitArgs) -> Result<()> {
             args.objective
         )
     })?;
-    let mut bounds = parse_bounds(&args.bounds)?;
+    let mut bounds = tussock_cli::parse::bounds(&args.bounds)?;
     let names: Vec<&str> = args.estimate.iter().map(|s| s.trim()).collect();
     let mut request = FitRequest::new(&names);
     for spec in &mut request.estimate {

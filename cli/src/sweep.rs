@@ -17,7 +17,7 @@ use anyhow::{bail, Context, Result};
 use rayon::prelude::*;
 use tussock_core::analysis::round_sig;
 use tussock_core::sweep::line::{LineRequest, LineSweep};
-use tussock_core::sweep::map::{MapRequest, OutcomeMap, Shard};
+use tussock_core::sweep::map::{MapRequest, OutcomeMap};
 use tussock_core::sweep::{AxisSpec, Simulate, Spacing, SweepError, SweepOptions};
 
 #[derive(clap::Args)]
@@ -139,7 +139,11 @@ pub fn sweep(args: &SweepArgs) -> Result<()> {
                 args.log2,
                 "2",
             )?;
-            let shard = args.shard.as_deref().map(parse_shard).transpose()?;
+            let shard = args
+                .shard
+                .as_deref()
+                .map(tussock_cli::parse::shard)
+                .transpose()?;
             let request = MapRequest {
                 x,
                 y,
@@ -192,16 +196,6 @@ fn flags(e: SweepError) -> anyhow::Error {
             Some(format!("--{flag}{suffix}:{reason}"))
         });
     anyhow::anyhow!(renamed.unwrap_or(text))
-}
-
-fn parse_shard(text: &str) -> Result<Shard> {
-    let parsed = text
-        .split_once('/')
-        .and_then(|(i, n)| Some((i.trim().parse().ok()?, n.trim().parse().ok()?)));
-    match parsed {
-        Some((index, count)) => Ok(Shard { index, count }),
-        None => bail!("--shard: expected i/n such as 2/8, got {text}"),
-    }
 }
 
 fn write(
