@@ -170,20 +170,19 @@ const RATE_FLOOR: f64 = 1e-150;
 /// Per-capita growth rates (dx_i/dt)/x_i at `x` for the species present,
 /// zero for those at zero (see [`RATE_FLOOR`]).
 pub(crate) fn per_capita_rates(model: &ModelSpec, params: &Params, x: &State) -> State {
-    let mut at = *x;
-    for i in 0..2 {
-        if at[i] > 0.0 {
-            at[i] = at[i].max(RATE_FLOOR);
-        }
-    }
-    let dx = model.derivative(params, &at);
-    let mut rates = State::zeros();
-    for i in 0..2 {
-        if at[i] > 0.0 {
-            rates[i] = dx[i] / at[i];
-        }
-    }
-    rates
+    let present = x.map(|v| f64::from(u8::from(v > 0.0)));
+    let at = x.map(|v| v.max(RATE_FLOOR)).component_mul(&present);
+    rates_at(model, params, &at, &present)
+}
+
+/// [`per_capita_rates`] at `at`, already floored, with `present` 1 for the
+/// species present and 0 for the others (whose `at` is 0). Without
+/// branches: the integrator calls it at every evaluation in logarithms.
+#[inline]
+fn rates_at(model: &ModelSpec, params: &Params, at: &State, present: &State) -> State {
+    let dx = model.derivative(params, at);
+    let absent = State::repeat(1.0) - present;
+    dx.component_div(&(at + absent)).component_mul(present)
 }
 
 impl Coordinates {
@@ -238,9 +237,8 @@ struct Rhs<'a> {
     model: &'a ModelSpec,
     params: &'a Params,
     coordinates: Coordinates,
-    /// In logarithms: 1 for a species present, 0 otherwise; and the reverse.
+    /// In logarithms: 1 for a species present, 0 otherwise.
     present: State,
-    absent: State,
     /// [`SolverOptions::blow_up`] in the integrator's variables.
     blow_up: f64,
     failure: Cell<Option<StopReason>>,
@@ -266,7 +264,6 @@ impl<'a> Rhs<'a> {
             params,
             coordinates,
             present,
-            absent: State::repeat(1.0) - present,
             blow_up,
             failure: Cell::new(None),
             evaluations: Cell::new(0),
@@ -281,15 +278,11 @@ impl System<f64, State> for &Rhs<'_> {
         self.evaluations
             .set(self.evaluations.get().saturating_add(1));
         if let Coordinates::Logs { .. } = self.coordinates {
-            // The per-capita rates of `per_capita_rates`, without branches:
-            // an absent species has y = 0, so x = 0 and a divisor of 1.
-            // No harvest here (that is what allows logarithms).
+            // An absent species keeps y = 0; its density is 0.
             let x = y
                 .map(|v| v.exp().max(RATE_FLOOR))
                 .component_mul(&self.present);
-            let dx = (self.model.rhs)(self.params, &x);
-            let divisor = x + self.absent;
-            *dy = dx.component_div(&divisor).component_mul(&self.present);
+            *dy = rates_at(self.model, self.params, &x, &self.present);
             return;
         }
         let clamped = y.map(|v| v.max(0.0));
