@@ -44,12 +44,19 @@ from scipy.integrate import solve_ivp
 ROOT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
 
 
-def tussock(example="time_solves"):
-    out = subprocess.run(
-        ["cargo", "run", "--quiet", "--release", "-p", "tussock-core", "--example", example],
-        cwd=ROOT, check=True, capture_output=True, text=True,
-    ).stdout
+def run_json(cmd):
+    out = subprocess.run(cmd, cwd=ROOT, check=True, capture_output=True, text=True).stdout
     return json.loads(out)
+
+
+def tussock(example):
+    return run_json(["cargo", "run", "--quiet", "--release", "-p", "tussock-core", "--example", example])
+
+
+def tussock_solves():
+    """Seconds per solve, from bench/wasm-solve's native timer (also used for wasm vs native)."""
+    return run_json(["cargo", "run", "--quiet", "--release", "-p", "tussock-wasm-bench", "--bin",
+                     "time_native", "standard", "rosenzweig_macarthur", "library_alone"])
 
 
 def time_scipy_fit(problem):
@@ -178,7 +185,7 @@ def time_desolve():
 
 
 def main():
-    t = tussock()
+    t = tussock_solves()
     s = {
         "standard": time_scipy(standard, 10.0, [1.0, 1.0], 0.1),
         "rosenzweig_macarthur": time_scipy(rosenzweig_macarthur, 1000.0, [100.0, 10.0], 1.0),

@@ -27,5 +27,6 @@ function secondsPerCall(f, rounds) {
 console.log(JSON.stringify({
   standard: secondsPerCall(x.standard_problem, 15),
   rosenzweig_macarthur: secondsPerCall(x.rosenzweig_macarthur_1000, 15),
+  library_alone: secondsPerCall(x.library_alone, 15),
   ensemble: secondsPerCall(x.ensemble_exact_1000, 3),
 }));

@@ -1,5 +1,5 @@
 """The same core code compiled natively and to WebAssembly, timed in one
-run: two single solves and 1,000 exact stochastic runs (the problems of
+run: two single solves, the integrator library alone, and 1,000 exact stochastic runs (the problems of
 core/src/bench_problems.rs, exported by bench/wasm-solve). WebAssembly runs
 in node, whose V8 is the engine of Chromium; the app's worker runs the same
 code. Also times the command line's ensemble, which spreads the runs over
@@ -55,6 +55,7 @@ def main():
     web = json.loads(run(["node", os.path.join(ROOT, "bench", "wasm_solve.mjs"), wasm]).strip().splitlines()[-1])
     rows = [("standard non-stiff problem, one solve", "standard", 1e6, "µs"),
             ("Rosenzweig–MacArthur 1000 days, one solve", "rosenzweig_macarthur", 1e3, "ms"),
+            ("standard problem on `ode_solvers` alone", "library_alone", 1e6, "µs"),
             ("1,000 exact stochastic runs, RM ~1,000 individuals, 365 days, one thread", "ensemble", 1.0, "s")]
     print("| same code, one thread | native | WebAssembly (node/V8) | WebAssembly vs native | same answer |")
     print("| --- | --- | --- | --- | --- |")

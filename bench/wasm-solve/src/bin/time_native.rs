@@ -1,11 +1,14 @@
 //! Native time per call of this crate's exports, as JSON, with the same
 //! protocol as bench/wasm_solve.mjs uses for the WebAssembly build: the
 //! median over rounds of the mean time per call within a round, a round
-//! lasting at least 0.2 s (one call for the ensemble).
+//! lasting at least 0.2 s (one call for the ensemble). Names as arguments
+//! time only those (`time_native standard library_alone`).
 
 use std::time::Instant;
 
-use tussock_wasm_bench::{ensemble_exact_1000, rosenzweig_macarthur_1000, standard_problem};
+use tussock_wasm_bench::{
+    ensemble_exact_1000, library_alone, rosenzweig_macarthur_1000, standard_problem,
+};
 
 fn seconds_per_call(f: extern "C" fn() -> u32, rounds: usize) -> (f64, u32) {
     let probe = Instant::now();
@@ -26,17 +29,18 @@ fn seconds_per_call(f: extern "C" fn() -> u32, rounds: usize) -> (f64, u32) {
 }
 
 fn main() {
-    let rows = [
-        ("standard", seconds_per_call(standard_problem, 15)),
-        (
-            "rosenzweig_macarthur",
-            seconds_per_call(rosenzweig_macarthur_1000, 15),
-        ),
-        ("ensemble", seconds_per_call(ensemble_exact_1000, 3)),
+    let all: [(&str, extern "C" fn() -> u32, usize); 4] = [
+        ("standard", standard_problem, 15),
+        ("rosenzweig_macarthur", rosenzweig_macarthur_1000, 15),
+        ("library_alone", library_alone, 15),
+        ("ensemble", ensemble_exact_1000, 3),
     ];
-    let body: Vec<String> = rows
+    let asked: Vec<String> = std::env::args().skip(1).collect();
+    let body: Vec<String> = all
         .iter()
-        .map(|(name, (s, answer))| {
+        .filter(|(name, _, _)| asked.is_empty() || asked.iter().any(|a| a == name))
+        .map(|(name, f, rounds)| {
+            let (s, answer) = seconds_per_call(*f, *rounds);
             format!("\"{name}\": {{\"seconds\": {s:e}, \"answer\": {answer}}}")
         })
         .collect();
