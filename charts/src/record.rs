@@ -43,7 +43,6 @@ impl Stroke {
 }
 
 /// What a text was drawn with.
-#[derive(Clone)]
 struct Font {
     family: String,
     size: f64,
@@ -53,7 +52,7 @@ struct Font {
     color: BackendColor,
 }
 
-#[derive(Clone)]
+/// One recorded backend call.
 enum Item {
     Pixel(BackendCoord, BackendColor),
     Line(BackendCoord, BackendCoord, Stroke),
@@ -170,7 +169,6 @@ impl DrawingBackend for RecordingBackend {
 }
 
 /// A figure's drawing calls, ready to play back.
-#[derive(Clone, Default)]
 pub struct Recording {
     items: Vec<Item>,
 }
