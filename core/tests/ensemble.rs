@@ -25,14 +25,20 @@ fn json(summary: &EnsembleSummary) -> String {
 }
 
 /// Run an ensemble in batches (run ranges [start, end), added in the order given, each
-/// batch into its own accumulator, then merged) and compare.
+/// batch into its own accumulator, then merged whole or, every other batch, its runs
+/// taken out and added as a worker's would be) and compare.
 fn check(p: &Problem, options: &EnsembleOptions, batches: &[(u64, u64)], expect: Expect) {
     let result = Ensemble::new(p, options).map(|ensemble| {
         let mut total = ensemble.accumulator();
-        for &(start, end) in batches {
+        for (k, &(start, end)) in batches.iter().enumerate() {
             let mut part = ensemble.accumulator();
             ensemble.run_batch(&mut part, start..end, &mut |_, _| true);
-            total.merge(part);
+            if k % 2 == 0 {
+                assert!(total.merge(part));
+            } else {
+                total.add_runs(part.take_runs()).unwrap();
+                assert_eq!(part.simulated(), 0);
+            }
         }
         json(&total.summary())
     });
@@ -132,7 +138,10 @@ fn a_stopped_batch_keeps_its_runs_and_says_partial() {
     let foreign = Ensemble::new(&other, &o).unwrap();
     let mut foreign_acc = foreign.accumulator();
     foreign.run_batch(&mut foreign_acc, 0..3, &mut |_, _| true);
-    assert!(!acc.merge(foreign_acc));
+    assert!(!acc.merge(foreign_acc.clone()));
+    let refused = acc.add_runs(foreign_acc.take_runs()).unwrap_err();
+    assert!(refused.contains("values for 3 finished runs"), "{refused}");
+    assert_eq!(acc.simulated(), 12);
     acc.add(&foreign.simulate(4));
     let s = acc.summary();
     assert!(s.partial);

@@ -81,8 +81,8 @@ pub use establishment::{
     EstablishmentTally, OtherSpeciesOutcome,
 };
 pub use summary::{
-    DeterministicSeries, EnsembleAccumulator, EnsembleSummary, FanSeries, KeptRun, PestBelow,
-    ProbabilityCurve, QuasiExtinction, RunFailure, SpeciesProbability, StopCounts,
+    DeterministicSeries, EnsembleAccumulator, EnsembleRuns, EnsembleSummary, FanSeries, KeptRun,
+    PestBelow, ProbabilityCurve, QuasiExtinction, RunFailure, SpeciesProbability, StopCounts,
     TimeToExtinction, TimeToExtinctionSpecies,
 };
 

@@ -8,6 +8,11 @@
 //!
 //! Runs that stop early (too many events, blow-up) are counted and listed
 //! but left out of the statistics, whose denominator is the finished runs.
+//!
+//! The runs themselves ([`EnsembleRuns`]) can be taken out of an
+//! accumulator, sent elsewhere (the page's worker gathers them from
+//! several workers) and added to another accumulator of the same ensemble,
+//! which checks that they fit before taking them.
 
 use serde::Serialize;
 
@@ -57,17 +62,32 @@ pub(crate) struct Layout {
 #[derive(Clone, Debug)]
 pub struct EnsembleAccumulator {
     layout: Layout,
+    runs: EnsembleRuns,
+}
+
+/// The runs held by an accumulator, without what the ensemble itself
+/// knows (grid, levels, deterministic trajectory): small enough to send
+/// between workers. Made only by [`EnsembleAccumulator::take_runs`].
+#[derive(Clone, Debug, Default, PartialEq, Serialize, serde::Deserialize)]
+pub struct EnsembleRuns {
     /// Finished runs.
     finished: u64,
     /// Per finished run, `record_len × n_species` values (record time major).
     values: Vec<f64>,
     extinction_times: [Vec<f64>; 2],
     quasi_extinction_times: [Vec<f64>; 2],
-    /// Runs with the smallest indices, finished or not.
-    kept: Vec<StochasticRun>,
+    /// Runs with the smallest indices, finished or not, on the summary grid.
+    kept: Vec<KeptRun>,
     stops: StopCounts,
     failures: Vec<RunFailure>,
     steps: StepCounts,
+}
+
+impl EnsembleRuns {
+    /// Runs held, however they ended.
+    pub fn simulated(&self) -> u64 {
+        self.stops.total()
+    }
 }
 
 /// How many runs ended each way.
@@ -99,7 +119,10 @@ impl StopCounts {
 
     /// Runs counted, however they ended.
     pub fn total(&self) -> u64 {
-        self.finished + self.too_many_steps + self.blew_up + self.non_finite
+        self.finished
+            .saturating_add(self.too_many_steps)
+            .saturating_add(self.blew_up)
+            .saturating_add(self.non_finite)
     }
 }
 
@@ -259,14 +282,7 @@ impl EnsembleAccumulator {
     pub(crate) fn new(layout: Layout) -> EnsembleAccumulator {
         EnsembleAccumulator {
             layout,
-            finished: 0,
-            values: Vec::new(),
-            extinction_times: [Vec::new(), Vec::new()],
-            quasi_extinction_times: [Vec::new(), Vec::new()],
-            kept: Vec::new(),
-            stops: StopCounts::default(),
-            failures: Vec::new(),
-            steps: StepCounts::default(),
+            runs: EnsembleRuns::default(),
         }
     }
 
@@ -276,7 +292,7 @@ impl EnsembleAccumulator {
 
     /// Runs added so far, finished or not.
     pub fn simulated(&self) -> u64 {
-        self.stops.total()
+        self.runs.simulated()
     }
 
     /// Add one run of this ensemble. A finished run whose length does not
@@ -287,41 +303,111 @@ impl EnsembleAccumulator {
         if run.stop.is_finished() && run.states.len() != self.layout.record_len {
             return;
         }
-        self.steps.add(&run.steps);
-        self.keep(run);
-        self.stops.count(&run.stop);
+        if self.keeps(run.run) {
+            let on_grid = self.on_grid(run);
+            self.keep(on_grid);
+        }
+        let runs = &mut self.runs;
+        runs.steps.add(&run.steps);
+        runs.stops.count(&run.stop);
         if run.stop.is_finished() {
-            self.finished += 1;
+            runs.finished += 1;
             for state in &run.states {
-                self.values.extend((0..n).map(|i| state[i]));
+                runs.values.extend((0..n).map(|i| state[i]));
             }
             for i in 0..n {
                 if let Some(t) = run.extinction_time[i] {
-                    self.extinction_times[i].push(t);
+                    runs.extinction_times[i].push(t);
                 }
                 if let Some(t) = run.quasi_extinction_time[i] {
-                    self.quasi_extinction_times[i].push(t);
+                    runs.quasi_extinction_times[i].push(t);
                 }
             }
             return;
         }
-        self.failures.push(RunFailure {
+        runs.failures.push(RunFailure {
             run: run.run,
             stop: run.stop,
         });
-        self.failures.sort_by_key(|f| f.run);
-        self.failures.truncate(MAX_LISTED_FAILURES);
+        runs.failures.sort_by_key(|f| f.run);
+        runs.failures.truncate(MAX_LISTED_FAILURES);
     }
 
-    fn keep(&mut self, run: &StochasticRun) {
-        if self.layout.keep_runs == 0 {
-            return;
+    /// Whether run number `run` is among those kept so far.
+    fn keeps(&self, run: u64) -> bool {
+        self.runs.kept.partition_point(|k| k.run < run) < self.layout.keep_runs
+    }
+
+    fn keep(&mut self, run: KeptRun) {
+        if self.keeps(run.run) {
+            let kept = &mut self.runs.kept;
+            kept.insert(kept.partition_point(|k| k.run < run.run), run);
+            kept.truncate(self.layout.keep_runs);
         }
-        let position = self.kept.partition_point(|k| k.run < run.run);
-        if position < self.layout.keep_runs {
-            self.kept.insert(position, run.clone());
-            self.kept.truncate(self.layout.keep_runs);
+    }
+
+    /// Take the runs out, leaving this accumulator empty.
+    pub fn take_runs(&mut self) -> EnsembleRuns {
+        std::mem::take(&mut self.runs)
+    }
+
+    /// Add runs taken from another accumulator of this ensemble. Runs that
+    /// do not fit it (another ensemble's, or damaged on the way) are
+    /// refused with the reason, and nothing is added.
+    pub fn add_runs(&mut self, other: EnsembleRuns) -> Result<(), String> {
+        self.check_fits(&other)?;
+        let runs = &mut self.runs;
+        runs.finished += other.finished;
+        runs.values.extend(other.values);
+        for i in 0..2 {
+            runs.extinction_times[i].extend(&other.extinction_times[i]);
+            runs.quasi_extinction_times[i].extend(&other.quasi_extinction_times[i]);
         }
+        runs.stops.add(&other.stops);
+        runs.failures.extend(other.failures);
+        runs.failures.sort_by_key(|f| f.run);
+        runs.failures.truncate(MAX_LISTED_FAILURES);
+        runs.steps.add(&other.steps);
+        for run in other.kept {
+            self.keep(run);
+        }
+        Ok(())
+    }
+
+    fn check_fits(&self, other: &EnsembleRuns) -> Result<(), String> {
+        let l = &self.layout;
+        let n = l.n_species;
+        let per_run = l.record_len * n;
+        let finished = usize::try_from(other.finished).unwrap_or(usize::MAX);
+        if other.stops.finished != other.finished
+            || finished.checked_mul(per_run) != Some(other.values.len())
+        {
+            return Err(format!(
+                "{} values for {} finished runs of {per_run} values each",
+                other.values.len(),
+                other.finished
+            ));
+        }
+        let events = other
+            .extinction_times
+            .iter()
+            .chain(&other.quasi_extinction_times);
+        for (i, times) in events.enumerate() {
+            if (i % 2 >= n && !times.is_empty()) || times.len() > finished {
+                return Err("more extinctions than finished runs".into());
+            }
+        }
+        let grid = l.times.len();
+        if other.failures.len() as u64 > other.stops.total() - other.finished
+            || other.kept.iter().any(|k| {
+                k.states.len() != n
+                    || k.states.iter().any(|s| s.len() > grid)
+                    || k.extinction_time.len() != n
+            })
+        {
+            return Err("runs of another ensemble".into());
+        }
+        Ok(())
     }
 
     /// Add the runs of another accumulator of the same ensemble (from
@@ -334,21 +420,7 @@ impl EnsembleAccumulator {
         {
             return false;
         }
-        self.finished += other.finished;
-        self.values.extend(other.values);
-        for i in 0..2 {
-            self.extinction_times[i].extend(&other.extinction_times[i]);
-            self.quasi_extinction_times[i].extend(&other.quasi_extinction_times[i]);
-        }
-        for run in &other.kept {
-            self.keep(run);
-        }
-        self.stops.add(&other.stops);
-        self.failures.extend(other.failures);
-        self.failures.sort_by_key(|f| f.run);
-        self.failures.truncate(MAX_LISTED_FAILURES);
-        self.steps.add(&other.steps);
-        true
+        self.add_runs(other.runs).is_ok()
     }
 
     /// A run of this ensemble on the summary grid.
@@ -373,8 +445,8 @@ impl EnsembleAccumulator {
     fn column(&self, k: usize, i: usize) -> Vec<f64> {
         let n = self.layout.n_species;
         let stride = self.layout.record_len * n;
-        (0..self.finished as usize)
-            .map(|r| self.values[r * stride + k * n + i])
+        (0..self.runs.finished as usize)
+            .map(|r| self.runs.values[r * stride + k * n + i])
             .collect()
     }
 
@@ -382,7 +454,7 @@ impl EnsembleAccumulator {
     pub fn summary(&self) -> EnsembleSummary {
         let l = &self.layout;
         let n = l.n_species;
-        let runs = self.finished;
+        let runs = self.runs.finished;
         let by_time = |times: &mut Vec<f64>, name: &str, level: Option<f64>| {
             times.sort_unstable_by(f64::total_cmp);
             let mut curve = ProbabilityCurve {
@@ -413,7 +485,7 @@ impl EnsembleAccumulator {
             .collect();
         for i in 0..n {
             let name = &l.species[i];
-            let mut times = self.extinction_times[i].clone();
+            let mut times = self.runs.extinction_times[i].clone();
             times.retain(|&t| t <= l.horizon);
             let count = times.len() as u64;
             let (probability, ci) = unpack(wilson(count, runs));
@@ -439,7 +511,7 @@ impl EnsembleAccumulator {
                 histogram,
             });
             if let Some(level) = l.quasi_levels[i] {
-                let mut q_times = self.quasi_extinction_times[i].clone();
+                let mut q_times = self.runs.quasi_extinction_times[i].clone();
                 q_times.retain(|&t| t <= l.horizon);
                 let q_count = q_times.len() as u64;
                 let (probability, ci) = unpack(wilson(q_count, runs));
@@ -526,8 +598,6 @@ impl EnsembleAccumulator {
             }
         });
 
-        let kept_runs = self.kept.iter().map(|run| self.on_grid(run)).collect();
-
         let simulated = self.simulated();
         EnsembleSummary {
             runs,
@@ -558,10 +628,10 @@ impl EnsembleAccumulator {
                     .collect(),
                 stop: l.deterministic.stop,
             },
-            kept_runs,
-            stops: self.stops,
-            failures: self.failures.clone(),
-            steps: self.steps,
+            kept_runs: self.runs.kept.clone(),
+            stops: self.runs.stops,
+            failures: self.runs.failures.clone(),
+            steps: self.runs.steps,
         }
     }
 }
