@@ -140,7 +140,15 @@ fn a_stopped_batch_keeps_its_runs_and_says_partial() {
     foreign.run_batch(&mut foreign_acc, 0..3, &mut |_, _| true);
     assert!(!acc.merge(foreign_acc.clone()));
     let refused = acc.add_runs(foreign_acc.take_runs()).unwrap_err();
-    assert!(refused.contains("values for 3 finished runs"), "{refused}");
+    assert!(refused.contains("another ensemble"), "{refused}");
+    // Runs damaged on the way (a value lost) are refused, nothing added.
+    let mut mine = ensemble.accumulator();
+    ensemble.run_batch(&mut mine, 20..23, &mut |_, _| true);
+    let mut sent = serde_json::to_value(mine.take_runs()).unwrap();
+    sent["values"].as_array_mut().unwrap().pop();
+    let damaged = serde_json::from_value(sent).unwrap();
+    let refused = acc.add_runs(damaged).unwrap_err();
+    assert!(refused.contains("finished runs"), "{refused}");
     assert_eq!(acc.simulated(), 12);
     acc.add(&foreign.simulate(4));
     let s = acc.summary();

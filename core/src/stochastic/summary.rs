@@ -58,6 +58,27 @@ pub(crate) struct Layout {
     pub requested: u64,
 }
 
+impl Layout {
+    /// A fingerprint of the ensemble (seed, method, grid, species and the
+    /// deterministic trajectory, which depends on every parameter), so runs
+    /// of another ensemble are not mistaken for this one's.
+    fn fingerprint(&self) -> u64 {
+        use std::hash::{Hash, Hasher};
+        let mut h = std::hash::DefaultHasher::new();
+        (self.seed, format!("{:?}", self.method), &self.species).hash(&mut h);
+        (self.record_len, self.n_species, self.horizon.to_bits()).hash(&mut h);
+        for &t in &self.times {
+            t.to_bits().hash(&mut h);
+        }
+        for i in 0..self.n_species {
+            for v in self.deterministic.series(i) {
+                v.to_bits().hash(&mut h);
+            }
+        }
+        h.finish()
+    }
+}
+
 /// Runs added so far; see the module documentation.
 #[derive(Clone, Debug)]
 pub struct EnsembleAccumulator {
@@ -70,6 +91,8 @@ pub struct EnsembleAccumulator {
 /// between workers. Made only by [`EnsembleAccumulator::take_runs`].
 #[derive(Clone, Debug, Default, PartialEq, Serialize, serde::Deserialize)]
 pub struct EnsembleRuns {
+    /// [`Layout::fingerprint`] of the ensemble the runs belong to.
+    ensemble: u64,
     /// Finished runs.
     finished: u64,
     /// Per finished run, `record_len × n_species` values (record time major).
@@ -280,10 +303,11 @@ fn unpack(p: Option<Proportion>) -> (Option<f64>, Option<[f64; 2]>) {
 
 impl EnsembleAccumulator {
     pub(crate) fn new(layout: Layout) -> EnsembleAccumulator {
-        EnsembleAccumulator {
-            layout,
-            runs: EnsembleRuns::default(),
-        }
+        let runs = EnsembleRuns {
+            ensemble: layout.fingerprint(),
+            ..EnsembleRuns::default()
+        };
+        EnsembleAccumulator { layout, runs }
     }
 
     pub fn times(&self) -> &[f64] {
@@ -348,7 +372,11 @@ impl EnsembleAccumulator {
 
     /// Take the runs out, leaving this accumulator empty.
     pub fn take_runs(&mut self) -> EnsembleRuns {
-        std::mem::take(&mut self.runs)
+        let empty = EnsembleRuns {
+            ensemble: self.runs.ensemble,
+            ..EnsembleRuns::default()
+        };
+        std::mem::replace(&mut self.runs, empty)
     }
 
     /// Add runs taken from another accumulator of this ensemble. Runs that
@@ -375,6 +403,9 @@ impl EnsembleAccumulator {
     }
 
     fn check_fits(&self, other: &EnsembleRuns) -> Result<(), String> {
+        if other.ensemble != self.runs.ensemble {
+            return Err("runs of another ensemble".into());
+        }
         let l = &self.layout;
         let n = l.n_species;
         let per_run = l.record_len * n;
@@ -405,7 +436,7 @@ impl EnsembleAccumulator {
                     || k.extinction_time.len() != n
             })
         {
-            return Err("runs of another ensemble".into());
+            return Err("kept runs or failures that cannot be".into());
         }
         Ok(())
     }
