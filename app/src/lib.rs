@@ -14,6 +14,7 @@ pub mod figures;
 pub mod jobs;
 pub mod panic;
 pub mod share;
+pub mod spread;
 pub mod state;
 pub mod worker;
 pub mod workers;

@@ -1,19 +1,53 @@
 //! Glue for the worker side of [`crate::jobs`]: receive a job, run it,
 //! post its updates. Everything computed is in `jobs::run`; a panic is
 //! reported to the page as a failed job instead of a silent death.
+//!
+//! An ensemble is spread over helper workers, one per core the browser
+//! reports ([`crate::spread`] plans it); this worker then only hands out
+//! runs and gathers them. A helper is this same worker script, sent
+//! `[job bytes, first run, end]` (an array, where the page sends bytes).
+//! With one core, or where a worker cannot start workers of its own, it
+//! runs the job itself. Terminating this worker (the page's cancel) ends
+//! its helpers with it.
 
-use std::cell::Cell;
+use std::cell::{Cell, RefCell};
 
-use js_sys::Uint8Array;
+use js_sys::{Array, Uint8Array};
 use wasm_bindgen::prelude::*;
 use wasm_bindgen::JsCast;
-use web_sys::{DedicatedWorkerGlobalScope, MessageEvent};
+use web_sys::{DedicatedWorkerGlobalScope, ErrorEvent, MessageEvent, Worker};
 
 use crate::jobs::{self, Job, Update};
+use crate::spread::{HelperAnswer, Spread};
+
+/// Helpers for one ensemble at most: beyond this the page's memory grows
+/// (a module instance each) for little gain.
+const MAX_HELPERS: usize = 16;
 
 thread_local! {
     /// The job being run, for the panic report.
     static CURRENT: Cell<u64> = const { Cell::new(0) };
+    /// The ensemble being spread over helpers, if any.
+    static SPREAD: RefCell<Option<Helpers>> = const { RefCell::new(None) };
+}
+
+/// A helper's message and error listeners, kept alive while it works.
+type Listeners = (Closure<dyn Fn(MessageEvent)>, Closure<dyn Fn(ErrorEvent)>);
+
+struct Helpers {
+    spread: Spread,
+    /// The page's job, as it came.
+    job: Uint8Array,
+    workers: Vec<Worker>,
+    _listeners: Vec<Listeners>,
+}
+
+impl Helpers {
+    fn stop(&self) {
+        for worker in &self.workers {
+            worker.terminate();
+        }
+    }
 }
 
 fn scope() -> Option<DedicatedWorkerGlobalScope> {
@@ -40,14 +74,21 @@ pub fn start() {
     }));
     let Some(scope) = scope() else { return };
     let on_message = Closure::<dyn Fn(MessageEvent)>::new(|event: MessageEvent| {
-        let bytes = Uint8Array::new(&event.data()).to_vec();
+        let data = event.data();
+        if Array::is_array(&data) {
+            post(&run_part(&Array::from(&data)));
+            return;
+        }
+        let bytes = Uint8Array::new(&data).to_vec();
         match jobs::decode::<Job>(&bytes) {
             Ok(job) => {
                 CURRENT.with(|c| c.set(job.id));
-                jobs::run(&job, &js_sys::Date::now, &mut |update| {
-                    post(&update);
-                    true
-                });
+                if !spread_out(&job, Uint8Array::new(&data)) {
+                    jobs::run(&job, &js_sys::Date::now, &mut |update| {
+                        post(&update);
+                        true
+                    });
+                }
             }
             Err(message) => post(&Update::Failed { id: 0, message }),
         }
@@ -55,4 +96,121 @@ pub fn start() {
     scope.set_onmessage(Some(on_message.as_ref().unchecked_ref()));
     on_message.forget();
     post(&Update::Ready);
+}
+
+/// A helper's work: `[job bytes, first run, end]`.
+fn run_part(message: &Array) -> Update {
+    let bytes = Uint8Array::new(&message.get(0)).to_vec();
+    let bound = |i| {
+        message
+            .get(i)
+            .as_f64()
+            .filter(|x| *x >= 0.0 && x.is_finite())
+    };
+    match (jobs::decode::<Job>(&bytes), bound(1), bound(2)) {
+        (Ok(job), Some(start), Some(end)) => {
+            CURRENT.with(|c| c.set(job.id));
+            jobs::run_part(&job, start as u64..end as u64)
+        }
+        (Err(message), ..) => Update::Failed { id: 0, message },
+        _ => Update::Failed {
+            id: 0,
+            message: "a helper was sent no runs to do".into(),
+        },
+    }
+}
+
+/// Cores the browser reports (1 when it does not say).
+fn cores() -> usize {
+    scope()
+        .map(|s| s.navigator().hardware_concurrency())
+        .filter(|n| n.is_finite() && *n >= 1.0)
+        .map_or(1, |n| n as usize)
+}
+
+/// Start `job` on helpers if it is an ensemble worth spreading; false
+/// when this worker should run it itself.
+fn spread_out(job: &Job, bytes: Uint8Array) -> bool {
+    SPREAD.with(|s| {
+        if let Some(old) = s.borrow_mut().take() {
+            old.stop();
+        }
+    });
+    let count = cores().min(MAX_HELPERS);
+    if count < 2 {
+        return false;
+    }
+    let Some(spread) = Spread::new(job, count) else {
+        return false;
+    };
+    let mut workers = Vec::with_capacity(count);
+    let mut listeners = Vec::with_capacity(count);
+    for helper in 0..count {
+        let Ok(worker) = Worker::new(crate::workers::WORKER_SCRIPT) else {
+            break;
+        };
+        let on_message = Closure::<dyn Fn(MessageEvent)>::new(move |event: MessageEvent| {
+            let bytes = Uint8Array::new(&event.data()).to_vec();
+            let answer = jobs::decode::<HelperAnswer>(&bytes)
+                .unwrap_or_else(|message| HelperAnswer::Failed { message });
+            from_helper(helper, answer);
+        });
+        let on_error = Closure::<dyn Fn(ErrorEvent)>::new(move |event: ErrorEvent| {
+            event.prevent_default();
+            let message = format!("a helper worker stopped: {}", event.message());
+            with_helpers(|h| h.spread.fail(message));
+        });
+        worker.set_onmessage(Some(on_message.as_ref().unchecked_ref()));
+        worker.set_onerror(Some(on_error.as_ref().unchecked_ref()));
+        workers.push(worker);
+        listeners.push((on_message, on_error));
+    }
+    if workers.is_empty() {
+        return false;
+    }
+    SPREAD.with(|s| {
+        *s.borrow_mut() = Some(Helpers {
+            spread,
+            job: bytes,
+            workers,
+            _listeners: listeners,
+        })
+    });
+    true
+}
+
+/// A helper's message: a loaded helper gets runs to do, runs done are
+/// gathered and the helper gets more.
+fn from_helper(helper: usize, answer: HelperAnswer) {
+    with_helpers(|h| {
+        let now = js_sys::Date::now();
+        let updates = h.spread.receive(helper, answer, now);
+        if let (Some(runs), Some(worker)) =
+            (h.spread.next_piece(helper, now), h.workers.get(helper))
+        {
+            let message = Array::of3(
+                &h.job,
+                &JsValue::from_f64(runs.start as f64),
+                &JsValue::from_f64(runs.end as f64),
+            );
+            let _ = worker.post_message(&message);
+        }
+        updates
+    });
+}
+
+/// Apply `act` to the helpers, post its updates to the page, and let the
+/// helpers go once the job is over.
+fn with_helpers(act: impl FnOnce(&mut Helpers) -> Vec<Update>) {
+    let over = SPREAD.with(|s| {
+        let mut slot = s.borrow_mut();
+        let helpers = slot.as_mut()?;
+        for update in act(helpers) {
+            post(&update);
+        }
+        helpers.spread.is_over().then(|| slot.take())
+    });
+    if let Some(Some(helpers)) = over {
+        helpers.stop();
+    }
 }

@@ -1,0 +1,343 @@
+//! One ensemble spread over several helper workers, so the page uses every
+//! core as the command line does.
+//!
+//! The worker that received the ensemble hands out ranges of runs to
+//! helpers as they become free (each helper gets the page's job once, then
+//! ranges; it answers with [`jobs::run_part`]), adds the runs they send
+//! back to one accumulator, and sends the page
+//! the updates a single worker would: progress, paced partial summaries,
+//! the finished summary. A run depends only on the seed and its index, and
+//! the summary does not depend on the order runs are added in, so the
+//! result is the single worker's, bit for bit.
+//!
+//! Ranges start at one run and double while a range takes under
+//! [`PARTIAL_INTERVAL_MS`] (so slow runs still report early), and never
+//! exceed half of the remaining runs' fair share, so the last ranges are
+//! short and no helper is left working alone at the end (guided
+//! self-scheduling: Polychronopoulos & Kuck 1987, "Guided self-scheduling: a
+//! practical scheduling scheme for parallel supercomputers").
+//!
+//! Plain Rust, tested natively; `worker.rs` owns the helpers.
+
+use std::ops::Range;
+
+use serde::Deserialize;
+use tussock_core::stochastic::{Ensemble, EnsembleAccumulator, EnsembleRuns};
+
+#[cfg(doc)]
+use crate::jobs;
+use crate::jobs::{Job, Outcome, Task, Update, PARTIAL_INTERVAL_MS};
+
+/// What a helper sends: the [`Update`]s it can send, read without the
+/// code to read every other result (which would double the worker's size).
+#[derive(Debug, Deserialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum HelperAnswer {
+    Ready,
+    Runs {
+        runs: Box<EnsembleRuns>,
+    },
+    Failed {
+        message: String,
+    },
+    #[serde(other)]
+    Other,
+}
+
+/// An ensemble being computed by helpers.
+pub struct Spread {
+    id: u64,
+    runs: u64,
+    accumulator: EnsembleAccumulator,
+    helpers: u64,
+    /// The first run not yet handed out.
+    next_run: u64,
+    /// The longest range handed out next.
+    range_limit: u64,
+    /// Per helper, when its range was handed out (None: idle).
+    sent_at: Vec<Option<f64>>,
+    last_partial: f64,
+    over: bool,
+}
+
+impl Spread {
+    /// Plan `job` over `helpers` helpers; None when it is not an ensemble
+    /// or does not validate (run in place, it reports its own error).
+    pub fn new(job: &Job, helpers: usize) -> Option<Spread> {
+        let Task::Ensemble { options } = &job.task else {
+            return None;
+        };
+        let problem = job.scenario.validate().ok()?;
+        let ensemble = Ensemble::new(&problem, options).ok()?;
+        Some(Spread {
+            id: job.id,
+            runs: options.runs,
+            accumulator: ensemble.accumulator(),
+            helpers: helpers.max(1) as u64,
+            next_run: 0,
+            range_limit: 1,
+            sent_at: vec![None; helpers.max(1)],
+            last_partial: f64::NEG_INFINITY,
+            over: false,
+        })
+    }
+
+    /// The next range of runs for `helper`, now idle; None when every run
+    /// has been handed out (or the job is over).
+    pub fn next_piece(&mut self, helper: usize, now: f64) -> Option<Range<u64>> {
+        let remaining = self.runs - self.next_run;
+        if self.over || remaining == 0 || helper >= self.sent_at.len() {
+            return None;
+        }
+        let fair_share = remaining.div_ceil(2 * self.helpers);
+        let len = self.range_limit.min(fair_share).max(1);
+        let runs = self.next_run..self.next_run + len;
+        self.next_run = runs.end;
+        self.sent_at[helper] = Some(now);
+        Some(runs)
+    }
+
+    /// What `helper` sent; returns the updates for the page.
+    pub fn receive(&mut self, helper: usize, answer: HelperAnswer, now: f64) -> Vec<Update> {
+        if self.over {
+            return Vec::new();
+        }
+        let id = self.id;
+        match answer {
+            HelperAnswer::Runs { runs } => {
+                if let Some(Some(sent)) = self.sent_at.get_mut(helper).map(Option::take) {
+                    if now - sent < PARTIAL_INTERVAL_MS {
+                        self.range_limit = self.range_limit.saturating_mul(2);
+                    }
+                }
+                if let Err(reason) = self.accumulator.add_runs(*runs) {
+                    return self.fail(format!(
+                        "a helper worker sent runs that do not fit: {reason}"
+                    ));
+                }
+                let (done, total) = (self.accumulator.simulated(), self.runs);
+                let mut updates = vec![Update::Progress { id, done, total }];
+                if done >= total {
+                    self.over = true;
+                    updates.push(Update::Done {
+                        id,
+                        outcome: Outcome::Ensemble(self.accumulator.summary()),
+                    });
+                } else if now - self.last_partial >= PARTIAL_INTERVAL_MS {
+                    self.last_partial = now;
+                    updates.push(Update::Partial {
+                        id,
+                        outcome: Outcome::Ensemble(self.accumulator.summary()),
+                    });
+                }
+                updates
+            }
+            HelperAnswer::Failed { message } => self.fail(message),
+            HelperAnswer::Ready | HelperAnswer::Other => Vec::new(),
+        }
+    }
+
+    /// A helper could not go on: the job fails with `message`.
+    pub fn fail(&mut self, message: String) -> Vec<Update> {
+        if self.over {
+            return Vec::new();
+        }
+        self.over = true;
+        vec![Update::Failed {
+            id: self.id,
+            message,
+        }]
+    }
+
+    /// Finished or failed: the helpers can go.
+    pub fn is_over(&self) -> bool {
+        self.over
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::jobs::{decode, encode, run_part, run_to_end};
+    use tussock_core::stochastic::EnsembleOptions;
+    use tussock_core::Scenario;
+
+    fn job(runs: u64) -> Job {
+        let text = std::fs::read_to_string(format!(
+            "{}/../examples/reserve-reintroduction.json",
+            env!("CARGO_MANIFEST_DIR")
+        ))
+        .unwrap();
+        Job {
+            id: 7,
+            scenario: Scenario::from_json(&text).unwrap(),
+            task: Task::Ensemble {
+                options: EnsembleOptions {
+                    runs,
+                    seed: 11,
+                    keep_runs: 5,
+                    ..EnsembleOptions::default()
+                },
+            },
+        }
+    }
+
+    /// What a helper answers, through CBOR both ways as in the browser.
+    fn helper(job: &Job, runs: Range<u64>) -> HelperAnswer {
+        let job: Job = decode(&encode(job)).unwrap();
+        decode(&encode(&run_part(&job, runs))).unwrap()
+    }
+
+    /// Drive a spread job, helpers answering in the order `pick` chooses
+    /// among the pieces out; the clock advances `step` ms per answer.
+    fn drive(job: &Job, helpers: usize, step: f64, pick: fn(usize) -> usize) -> Vec<Update> {
+        let mut spread = Spread::new(job, helpers).unwrap();
+        let mut now = 0.0;
+        let mut out: Vec<(usize, Range<u64>)> = (0..helpers)
+            .filter_map(|h| spread.next_piece(h, now).map(|p| (h, p)))
+            .collect();
+        let mut updates = Vec::new();
+        while !out.is_empty() {
+            let (h, piece) = out.remove(pick(out.len()));
+            now += step;
+            updates.extend(spread.receive(h, helper(job, piece), now));
+            if let Some(next) = spread.next_piece(h, now) {
+                out.push((h, next));
+            }
+        }
+        assert!(spread.is_over());
+        updates
+    }
+
+    #[test]
+    fn helpers_in_any_order_give_the_single_workers_summary_exactly() {
+        let job = job(150);
+        let alone = run_to_end(&job).unwrap();
+        for (helpers, pick) in [
+            (1, (|_| 0) as fn(usize) -> usize),
+            (3, |n| n - 1),
+            (4, |n| n / 2),
+        ] {
+            let updates = drive(&job, helpers, 30.0, pick);
+            let Some(Update::Done { id, outcome }) = updates.last() else {
+                panic!("no result: {:?}", updates.last());
+            };
+            assert_eq!(*id, 7);
+            assert!(
+                *outcome == alone,
+                "{helpers} helpers differ from one worker"
+            );
+            // Progress only grows, partial summaries are paced and partial.
+            let done: Vec<u64> = updates
+                .iter()
+                .filter_map(|u| match u {
+                    Update::Progress { done, .. } => Some(*done),
+                    _ => None,
+                })
+                .collect();
+            assert!(done.windows(2).all(|w| w[0] < w[1]) && done.last() == Some(&150));
+            let partials = updates
+                .iter()
+                .filter(|u| matches!(u, Update::Partial { outcome, .. } if outcome.is_partial()))
+                .count();
+            assert!(
+                partials >= 1 && partials <= done.len() / 8 + 1,
+                "{partials}"
+            );
+        }
+    }
+
+    #[test]
+    fn ranges_grow_while_quick_then_shrink_to_share_the_end() {
+        let job = job(1000);
+        let mut spread = Spread::new(&job, 2).unwrap();
+        let mut lengths = Vec::new();
+        let mut now = 0.0;
+        while let Some(runs) = spread.next_piece(0, now) {
+            assert_eq!(runs.start, lengths.iter().sum::<u64>());
+            lengths.push(runs.end - runs.start);
+            now += 10.0;
+            spread.receive(0, helper(&job, runs), now);
+        }
+        assert_eq!(lengths.iter().sum::<u64>(), 1000);
+        assert_eq!(lengths[..4], [1, 2, 4, 8]);
+        let longest = *lengths.iter().max().unwrap();
+        assert!(longest <= 250, "{lengths:?}");
+        assert_eq!(lengths[lengths.len() - 1], 1);
+    }
+
+    #[test]
+    fn a_failing_or_garbled_helper_fails_the_job_once() {
+        let job = job(40);
+        let mut spread = Spread::new(&job, 2).unwrap();
+        let piece = spread.next_piece(0, 0.0).unwrap();
+        let failed = Update::Failed {
+            id: 7,
+            message: "out of memory".into(),
+        };
+        let got = spread.receive(0, decode(&encode(&failed)).unwrap(), 1.0);
+        assert_eq!(
+            got,
+            [Update::Failed {
+                id: 7,
+                message: "out of memory".into()
+            }]
+        );
+        assert!(spread.is_over() && spread.next_piece(1, 2.0).is_none());
+        assert!(spread.receive(1, helper(&job, piece), 3.0).is_empty());
+
+        // Runs of another ensemble (another scenario) do not fit.
+        let mut spread = Spread::new(&job, 2).unwrap();
+        let mut other = job.clone();
+        other.scenario = Scenario::from_json(
+            &std::fs::read_to_string(format!(
+                "{}/../examples/greenhouse-mites.json",
+                env!("CARGO_MANIFEST_DIR")
+            ))
+            .unwrap(),
+        )
+        .unwrap();
+        let mut foreign = Spread::new(&other, 1).unwrap();
+        let answer = helper(&other, foreign.next_piece(0, 0.0).unwrap());
+        spread.next_piece(0, 0.0);
+        let got = spread.receive(0, answer, 1.0);
+        let [Update::Failed { id: 7, message }] = &got[..] else {
+            panic!("{} updates, not one failure", got.len());
+        };
+        assert!(message.contains("another ensemble"), "{message}");
+    }
+
+    #[test]
+    fn other_messages_from_a_helper_are_ignored() {
+        let mut spread = Spread::new(&job(10), 2).unwrap();
+        let progress = Update::Progress {
+            id: 7,
+            done: 1,
+            total: 10,
+        };
+        let answer: HelperAnswer = decode(&encode(&progress)).unwrap();
+        assert!(matches!(answer, HelperAnswer::Other));
+        assert!(spread.receive(0, answer, 1.0).is_empty() && !spread.is_over());
+        let mut bad = job(10);
+        bad.scenario.t_end = -1.0;
+        let Update::Failed { message, .. } = run_part(&bad, 0..2) else {
+            panic!("a bad scenario was run");
+        };
+        assert!(message.contains("t_end"), "{message}");
+    }
+
+    #[test]
+    fn only_valid_ensembles_are_spread() {
+        let mut bad = job(10);
+        bad.scenario.t_end = -1.0;
+        assert!(Spread::new(&bad, 2).is_none());
+        let mut none = job(10);
+        none.task = Task::Ensemble {
+            options: EnsembleOptions {
+                runs: 0,
+                ..EnsembleOptions::default()
+            },
+        };
+        assert!(Spread::new(&none, 2).is_none());
+    }
+}
