@@ -102,7 +102,7 @@ async fn measure() -> String {
         }
     }
     let map_seconds = outcome_map(&b).await;
-    let (browser_ensemble, native_ensemble) = ensemble(&b).await;
+    let runs = ensemble(&b).await;
     let mut busy = busy_redraws(&b, script).await;
     b.close().await;
     busy.sort_by(f64::total_cmp);
@@ -119,8 +119,9 @@ async fn measure() -> String {
          | edit to both charts redrawn, 95th percentile | {:.1} ms |\n\
          | 200 × 200 Rosenzweig–MacArthur outcome map to t = 2000 (worker), click to finished | {:.2} s |\n\
          | edit to both charts redrawn while the worker runs 10,000 stochastic runs, median of {} edits | {:.1} ms |\n\
-         | 1,000 exact stochastic runs, RM ~1,000 individuals, 365 days: the page's worker, click to finished | {:.2} s |\n\
-         | the same runs on the native core, one thread, in this process | {:.2} s ({:.2}× faster than the page) |\n",
+         | 1,000 exact stochastic runs, RM ~1,000 individuals, 365 days: the page (a helper worker per core), click to finished | {:.2} s |\n\
+         | the same runs on the native core, one thread, in this process | {:.2} s (page / native: {:.2}) |\n\
+         | the same runs on the native core, {} threads (all cores), in this process | {:.2} s (page / native: {:.2}) |\n",
         kb(start_bytes),
         kb(worker_bytes),
         quantile(&loads, 0.5),
@@ -130,9 +131,12 @@ async fn measure() -> String {
         map_seconds,
         busy.len(),
         quantile(&busy, 0.5),
-        browser_ensemble,
-        native_ensemble,
-        browser_ensemble / native_ensemble,
+        runs.page,
+        runs.one_thread,
+        runs.page / runs.one_thread,
+        runs.threads,
+        runs.all_cores,
+        runs.page / runs.all_cores,
     )
 }
 
@@ -163,19 +167,70 @@ async fn outcome_map(b: &Browser) -> f64 {
     started.elapsed().as_secs_f64()
 }
 
+/// Seconds for the same 1,000 exact runs in three places.
+struct EnsembleTimes {
+    /// The page, from the click to the finished summary.
+    page: f64,
+    /// The native core on one thread.
+    one_thread: f64,
+    /// The native core on `threads` threads, merged (as the command line
+    /// does).
+    all_cores: f64,
+    threads: usize,
+}
+
 /// Seconds from the click to the finished ensemble for 1,000 exact runs of
 /// the benchmark case (`bench_problems::rosenzweig_macarthur_365_days`,
-/// seed 1) in the page's worker, and for the same runs on the native core
-/// in this process. The two must count the same extinctions (the same seed
-/// gives the same runs on both), which is checked.
-async fn ensemble(b: &Browser) -> (f64, f64) {
+/// seed 1) in the page, and for the same runs on the native core in this
+/// process, on one thread and on all cores. The page and the native core
+/// must count the same extinctions (the same seed gives the same runs on
+/// both), which is checked.
+async fn ensemble(b: &Browser) -> EnsembleTimes {
     use tussock_core::bench_problems::{rosenzweig_macarthur_365_days, thousand_runs};
-    use tussock_core::stochastic::{run_ensemble, Method};
+    use tussock_core::stochastic::{run_ensemble, Ensemble, Method};
     let problem = rosenzweig_macarthur_365_days();
     let options = thousand_runs(Method::Exact);
     let started = std::time::Instant::now();
     let native = run_ensemble(&problem, &options, &mut |_, _| true).expect("the native ensemble");
-    let native_seconds = started.elapsed().as_secs_f64();
+    let one_thread = started.elapsed().as_secs_f64();
+
+    let threads = std::thread::available_parallelism().map_or(1, |n| n.get());
+    let started = std::time::Instant::now();
+    let ensemble = Ensemble::new(&problem, &options).expect("the native ensemble");
+    // Chunks of ten runs taken in turn from a shared counter, so no thread
+    // idles while another still has work (as rayon does for the command
+    // line).
+    let next = std::sync::atomic::AtomicU64::new(0);
+    let parts: Vec<_> = std::thread::scope(|scope| {
+        let (ensemble, next) = (&ensemble, &next);
+        let handles: Vec<_> = (0..threads)
+            .map(|_| {
+                scope.spawn(move || {
+                    let mut part = ensemble.accumulator();
+                    loop {
+                        let start = next.fetch_add(10, std::sync::atomic::Ordering::Relaxed);
+                        if start >= options.runs {
+                            break part;
+                        }
+                        let end = (start + 10).min(options.runs);
+                        ensemble.run_batch(&mut part, start..end, &mut |_, _| true);
+                    }
+                })
+            })
+            .collect();
+        handles
+            .into_iter()
+            .map(|h| h.join().expect("a native thread"))
+            .collect()
+    });
+    let mut all = ensemble.accumulator();
+    for part in parts {
+        all.merge(part);
+    }
+    let all_cores = started.elapsed().as_secs_f64();
+    if all.summary() != native {
+        eprintln!("the native ensemble differs between one thread and {threads}");
+    }
 
     b.open_app().await;
     for (css, value) in [
@@ -201,7 +256,7 @@ async fn ensemble(b: &Browser) -> (f64, f64) {
         t.contains("finished") || t.contains("failed")
     })
     .await;
-    let browser_seconds = started.elapsed().as_secs_f64();
+    let page = started.elapsed().as_secs_f64();
     let risks = b.text_of("#chance-risks").await;
     for p in &native.extinction {
         let expected = format!("dies out by 365 days in {} of {} runs", p.count, p.runs);
@@ -209,7 +264,12 @@ async fn ensemble(b: &Browser) -> (f64, f64) {
             eprintln!("the page and the native core disagree: native {expected:?}, page {risks:?}");
         }
     }
-    (browser_seconds, native_seconds)
+    EnsembleTimes {
+        page,
+        one_thread,
+        all_cores,
+        threads,
+    }
 }
 
 /// Redraw times of workbench edits made while the worker is busy with

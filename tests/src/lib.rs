@@ -328,6 +328,18 @@ impl Browser {
         }
     }
 
+    /// Web Workers alive in the browser (DevTools' Target.getTargets).
+    pub async fn workers(&self) -> usize {
+        let targets = DevTools {
+            cmd: "Target.getTargets",
+            params: json!({}),
+        };
+        let v = self.client.issue_cmd(targets).await.expect("list targets");
+        v["targetInfos"]
+            .as_array()
+            .map_or(0, |t| t.iter().filter(|t| t["type"] == "worker").count())
+    }
+
     /// Bytes of linear memory of all live `WebAssembly.Memory` objects,
     /// found through DevTools' Runtime.queryObjects (the page's bindings
     /// keep theirs private).

@@ -449,7 +449,13 @@ async fn the_browser_ensemble_repeats_the_native_one_seed_for_seed() {
     assert!(b.canvas("chart-fan-0").await.0 > 1000, "blank fan chart");
     b.click("#csv-ensemble").await;
     let csv = b.downloaded("stochastic-runs.csv").await;
+    // The whole table (fan-chart quantiles and extinction curves at every
+    // time), whichever of the page's helper workers ran which runs.
     assert!(csv.lines().count() > 10, "{csv}");
+    assert!(
+        csv == tussock_charts::tables::ensemble_csv(&native),
+        "the page's table differs from the native one"
+    );
     b.screenshot("chance").await;
     b.assert_clean_console().await;
     b.close().await;
@@ -476,7 +482,27 @@ async fn stopping_a_long_ensemble_keeps_the_partial_result_and_the_page_answers(
         t.contains("running") && !t.contains(" 0%")
     })
     .await;
+    // The runs are spread over a helper worker per core (up to 16); the
+    // stop ends them all.
+    let cores = b
+        .client
+        .execute("return navigator.hardwareConcurrency", vec![])
+        .await
+        .expect("read the cores")
+        .as_u64()
+        .unwrap_or(1);
+    let helpers = if cores >= 2 { cores.min(16) } else { 0 };
+    assert_eq!(b.workers().await as u64, 1 + helpers, "{cores} cores");
     b.click("#job-ensemble-stop").await;
+    let mut left = b.workers().await;
+    for _ in 0..50 {
+        if left == 0 {
+            break;
+        }
+        tokio::time::sleep(std::time::Duration::from_millis(100)).await;
+        left = b.workers().await;
+    }
+    assert_eq!(left, 0, "workers left running after the stop");
     let status = b
         .wait_for_text("#job-ensemble", 20, |t| t.contains("stopped"))
         .await;
