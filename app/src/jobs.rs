@@ -9,15 +9,13 @@
 //! glue that receives and posts messages. Cancelling terminates the worker:
 //! the page keeps the last partial result it received, marked partial.
 
-use std::ops::Range;
-
 use serde::{Deserialize, Serialize};
 use tussock_core::data::CountData;
 use tussock_core::fit::{self, FitRequest, FitResult};
 use tussock_core::plan::{self, Plan, PlanRequest};
 use tussock_core::stochastic::{
-    Ensemble, EnsembleOptions, EnsembleRuns, EnsembleSummary, EstablishmentPlan,
-    EstablishmentRequest, EstablishmentTable,
+    Ensemble, EnsembleOptions, EnsembleSummary, EstablishmentPlan, EstablishmentRequest,
+    EstablishmentTable,
 };
 use tussock_core::sweep::line::{LineRequest, LineSweep};
 use tussock_core::sweep::map::{MapRequest, OutcomeMap};
@@ -170,11 +168,6 @@ pub enum Update {
     Done {
         id: u64,
         outcome: Outcome,
-    },
-    /// A helper's runs of an ensemble ([`run_part`]).
-    Runs {
-        id: u64,
-        runs: EnsembleRuns,
     },
     Failed {
         id: u64,
@@ -397,34 +390,6 @@ pub fn run(job: &Job, now: &dyn Fn() -> f64, send: &mut dyn FnMut(Update) -> boo
         Ok(outcome) => send(Update::Done { id, outcome }),
         Err(message) => send(Update::Failed { id, message }),
     };
-}
-
-/// Some runs of an ensemble job, for a helper worker (see [`crate::spread`]):
-/// [`Update::Runs`], or `Failed` when the job is not a valid ensemble.
-pub fn run_part(job: &Job, runs: Range<u64>) -> Update {
-    let id = job.id;
-    let Task::Ensemble { options } = &job.task else {
-        return Update::Failed {
-            id,
-            message: "a helper was sent a job that is not an ensemble".into(),
-        };
-    };
-    let ensemble = job
-        .scenario
-        .validate()
-        .map_err(|e| format!("the scenario is not valid: {e}"))
-        .and_then(|problem| Ensemble::new(&problem, options).map_err(|e| e.to_string()));
-    match ensemble {
-        Err(message) => Update::Failed { id, message },
-        Ok(ensemble) => {
-            let mut acc = ensemble.accumulator();
-            ensemble.run_batch(&mut acc, runs, &mut |_, _| true);
-            Update::Runs {
-                id,
-                runs: acc.take_runs(),
-            }
-        }
-    }
 }
 
 /// Run a job to the end and return its outcome (for tests and benchmarks).

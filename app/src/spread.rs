@@ -2,9 +2,8 @@
 //! core as the command line does.
 //!
 //! The worker that received the ensemble hands out ranges of runs to
-//! helpers as they become free (each helper gets the page's job once, then
-//! ranges; it answers with [`jobs::run_part`]), adds the runs they send
-//! back to one accumulator, and sends the page
+//! helpers as they become free (a helper does a range with [`run_part`]),
+//! adds the runs they send back to one accumulator, and sends the page
 //! the updates a single worker would: progress, paced partial summaries,
 //! the finished summary. A run depends only on the seed and its index, and
 //! the summary does not depend on the order runs are added in, so the
@@ -21,16 +20,16 @@
 
 use std::ops::Range;
 
-use serde::Deserialize;
+use serde::{Deserialize, Serialize};
 use tussock_core::stochastic::{Ensemble, EnsembleAccumulator, EnsembleRuns};
 
-#[cfg(doc)]
-use crate::jobs;
 use crate::jobs::{Job, Outcome, Task, Update, PARTIAL_INTERVAL_MS};
 
-/// What a helper sends: the [`Update`]s it can send, read without the
-/// code to read every other result (which would double the worker's size).
-#[derive(Debug, Deserialize)]
+/// What a helper sends. `Ready` and `Failed` have the shape of the
+/// [`Update`]s of the same name (a helper is the same worker script, which
+/// says it is ready, and reports a panic, as an `Update`); reading only
+/// these spares the worker the code to read every other result.
+#[derive(Debug, Serialize, Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum HelperAnswer {
     Ready,
@@ -42,6 +41,30 @@ pub enum HelperAnswer {
     },
     #[serde(other)]
     Other,
+}
+
+/// A helper's work: runs `runs` of the ensemble `job`.
+pub fn run_part(job: &Job, runs: Range<u64>) -> HelperAnswer {
+    let Task::Ensemble { options } = &job.task else {
+        return HelperAnswer::Failed {
+            message: "a helper was sent a job that is not an ensemble".into(),
+        };
+    };
+    let ensemble = job
+        .scenario
+        .validate()
+        .map_err(|e| format!("the scenario is not valid: {e}"))
+        .and_then(|problem| Ensemble::new(&problem, options).map_err(|e| e.to_string()));
+    match ensemble {
+        Err(message) => HelperAnswer::Failed { message },
+        Ok(ensemble) => {
+            let mut acc = ensemble.accumulator();
+            ensemble.run_batch(&mut acc, runs, &mut |_, _| true);
+            HelperAnswer::Runs {
+                runs: Box::new(acc.take_runs()),
+            }
+        }
+    }
 }
 
 /// An ensemble being computed by helpers.
@@ -158,7 +181,7 @@ impl Spread {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::jobs::{decode, encode, run_part, run_to_end};
+    use crate::jobs::{decode, encode, run_to_end};
     use tussock_core::stochastic::EnsembleOptions;
     use tussock_core::Scenario;
 
@@ -317,10 +340,12 @@ mod tests {
         };
         let answer: HelperAnswer = decode(&encode(&progress)).unwrap();
         assert!(matches!(answer, HelperAnswer::Other));
+        let ready: HelperAnswer = decode(&encode(&Update::Ready)).unwrap();
+        assert!(matches!(ready, HelperAnswer::Ready));
         assert!(spread.receive(0, answer, 1.0).is_empty() && !spread.is_over());
         let mut bad = job(10);
         bad.scenario.t_end = -1.0;
-        let Update::Failed { message, .. } = run_part(&bad, 0..2) else {
+        let HelperAnswer::Failed { message } = run_part(&bad, 0..2) else {
             panic!("a bad scenario was run");
         };
         assert!(message.contains("t_end"), "{message}");

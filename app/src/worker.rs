@@ -18,7 +18,7 @@ use wasm_bindgen::JsCast;
 use web_sys::{DedicatedWorkerGlobalScope, ErrorEvent, MessageEvent, Worker};
 
 use crate::jobs::{self, Job, Update};
-use crate::spread::{HelperAnswer, Spread};
+use crate::spread::{self, HelperAnswer, Spread};
 
 /// Helpers for one ensemble at most: beyond this the page's memory grows
 /// (a module instance each) for little gain.
@@ -56,9 +56,9 @@ fn scope() -> Option<DedicatedWorkerGlobalScope> {
         .ok()
 }
 
-fn post(update: &Update) {
+fn post(message: &impl serde::Serialize) {
     if let Some(scope) = scope() {
-        let bytes = Uint8Array::from(jobs::encode(update).as_slice());
+        let bytes = Uint8Array::from(jobs::encode(message).as_slice());
         let _ = scope.post_message(&bytes);
     }
 }
@@ -99,7 +99,7 @@ pub fn start() {
 }
 
 /// A helper's work: `[job bytes, first run, end]`.
-fn run_part(message: &Array) -> Update {
+fn run_part(message: &Array) -> HelperAnswer {
     let bytes = Uint8Array::new(&message.get(0)).to_vec();
     let bound = |i| {
         message
@@ -110,11 +110,10 @@ fn run_part(message: &Array) -> Update {
     match (jobs::decode::<Job>(&bytes), bound(1), bound(2)) {
         (Ok(job), Some(start), Some(end)) => {
             CURRENT.with(|c| c.set(job.id));
-            jobs::run_part(&job, start as u64..end as u64)
+            spread::run_part(&job, start as u64..end as u64)
         }
-        (Err(message), ..) => Update::Failed { id: 0, message },
-        _ => Update::Failed {
-            id: 0,
+        (Err(message), ..) => HelperAnswer::Failed { message },
+        _ => HelperAnswer::Failed {
             message: "a helper was sent no runs to do".into(),
         },
     }
