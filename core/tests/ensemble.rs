@@ -8,7 +8,7 @@ mod common;
 use common::problem;
 use tussock_core::stochastic::stats::{quantile_sorted, wilson};
 use tussock_core::stochastic::{
-    run_ensemble, Ensemble, EnsembleOptions, EnsembleSummary, EnvironmentalNoise,
+    establishment, run_ensemble, Ensemble, EnsembleOptions, EnsembleSummary, EnvironmentalNoise,
     EstablishmentPlan, EstablishmentRequest, Method, StochasticOptions,
 };
 use tussock_core::Problem;
@@ -303,4 +303,49 @@ fn quantiles_interpolate_between_order_statistics() {
     assert_eq!(quantile_sorted(&[1.0, 2.0, 3.0, 4.0], 0.25), Some(1.75));
     assert_eq!(quantile_sorted(&[1.0, 2.0, 3.0, 4.0], 0.75), Some(3.25));
     assert_eq!(quantile_sorted(&[], 0.5), None);
+}
+
+#[test]
+fn founder_tallies_merge_in_any_order_and_refuse_what_does_not_fit() {
+    let p = predator_prey();
+    let request = EstablishmentRequest {
+        species: 1,
+        founders: vec![2, 6],
+        releases: vec![1, 2],
+        runs: 40,
+        seed: 5,
+        ..EstablishmentRequest::default()
+    };
+    let whole = establishment(&p, &request, &mut |_, _| true).unwrap();
+    let plan = EstablishmentPlan::new(&p, &request).unwrap();
+    // Each row in three chunks, the last first, each sent as JSON as a
+    // worker would send it.
+    let tallies: Vec<_> = (0..plan.rows())
+        .map(|row| {
+            let mut tally = plan.tally(row);
+            for runs in [27..40, 0..9, 9..27] {
+                let mut part = plan.tally(row);
+                plan.run_chunk(&mut part, runs, &mut |_, _| true);
+                let sent = serde_json::to_string(&part).unwrap();
+                tally.merge(serde_json::from_str(&sent).unwrap()).unwrap();
+            }
+            tally
+        })
+        .collect();
+    assert_eq!(plan.table(&tallies), whole);
+
+    let mut first = plan.tally(0);
+    plan.run_chunk(&mut first, 0..5, &mut |_, _| true);
+    let mut second = plan.tally(1);
+    plan.run_chunk(&mut second, 0..5, &mut |_, _| true);
+    let refused = first.clone().merge(second).unwrap_err();
+    assert!(refused.contains("row 1 cannot join row 0"), "{refused}");
+    let mut damaged = serde_json::to_value(&first).unwrap();
+    damaged["at_horizon"].as_array_mut().unwrap().pop();
+    let mut kept = plan.tally(0);
+    let refused = kept
+        .merge(serde_json::from_value(damaged).unwrap())
+        .unwrap_err();
+    assert!(refused.contains("do not add up"), "{refused}");
+    assert_eq!(kept.simulated(), 0);
 }

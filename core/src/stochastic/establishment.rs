@@ -150,8 +150,10 @@ pub struct EstablishmentPlan {
     rows: Vec<RowPlan>,
 }
 
-/// Runs of one row added so far.
-#[derive(Clone, Debug)]
+/// Runs of one row added so far; serialisable, so that runs done in one
+/// worker can be added to a tally in another ([`EstablishmentTally::merge`]
+/// checks that they fit).
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct EstablishmentTally {
     row: usize,
     finished: u64,
@@ -444,11 +446,39 @@ impl EstablishmentPlan {
 }
 
 impl EstablishmentTally {
-    /// Add the runs of another tally of the same row; a tally of another
-    /// row is ignored. Returns whether it was merged.
-    pub fn merge(&mut self, other: EstablishmentTally) -> bool {
+    /// Runs added, however they ended.
+    pub fn simulated(&self) -> u64 {
+        self.stops.total()
+    }
+
+    /// Add the runs of another tally of the same row. A tally of another
+    /// row, or one whose counts cannot be (damaged on the way), is refused
+    /// with the reason and nothing is added.
+    pub fn merge(&mut self, other: EstablishmentTally) -> Result<(), String> {
         if other.row != self.row {
-            return false;
+            return Err(format!(
+                "a tally of row {} cannot join row {}",
+                other.row, self.row
+            ));
+        }
+        let n = other.finished;
+        let len = |v: &Vec<f64>| v.len() as u64;
+        if other.stops.finished != n
+            || len(&other.at_horizon) != n
+            || !(len(&other.other_at_horizon) == n || other.other_at_horizon.is_empty())
+            || [
+                other.established,
+                other.extinct,
+                other.other_extinct,
+                other.other_quasi,
+            ]
+            .iter()
+            .any(|&count| count > n)
+        {
+            return Err(format!(
+                "the counts of a tally of row {} do not add up",
+                other.row
+            ));
         }
         self.finished += other.finished;
         self.established += other.established;
@@ -458,7 +488,7 @@ impl EstablishmentTally {
         self.other_extinct += other.other_extinct;
         self.other_quasi += other.other_quasi;
         self.stops.add(&other.stops);
-        true
+        Ok(())
     }
 }
 
