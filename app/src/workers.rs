@@ -56,7 +56,13 @@ fn spawn(kind: TaskKind, on_update: impl Fn(Update) + 'static) -> Result<Slot, S
     });
     let on_error = Closure::<dyn Fn(ErrorEvent)>::new(move |event: ErrorEvent| {
         event.prevent_default();
-        SLOTS.with(|s| s.borrow_mut().remove(&kind));
+        // The worker may raise more than one error; none may reach this
+        // listener once it is dropped with its slot.
+        if let Some(slot) = SLOTS.with(|s| s.borrow_mut().remove(&kind)) {
+            slot.worker.set_onmessage(None);
+            slot.worker.set_onerror(None);
+            slot.worker.terminate();
+        }
         on_update(Update::Failed {
             id: 0,
             message: format!("the background worker stopped: {}", event.message()),
