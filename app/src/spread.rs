@@ -1,18 +1,20 @@
-//! One ensemble spread over several helper workers, so the page uses every
-//! core as the command line does.
+//! Stochastic runs spread over several helper workers, so the page uses
+//! every core as the command line does: an ensemble, or the founder rows of
+//! a reintroduction comparison.
 //!
-//! The worker that received the ensemble hands out ranges of runs to
-//! helpers as they become free (a helper does a range with [`run_part`]),
-//! adds the runs they send back to one accumulator, and sends the page
-//! the updates a single worker would: progress, paced partial summaries,
-//! the finished summary. A run depends only on the seed and its index, and
-//! the summary does not depend on the order runs are added in, so the
-//! result is the single worker's, bit for bit.
+//! The worker that received the job hands out ranges of runs to helpers as
+//! they become free (a helper does a range with [`run_part`]), gathers what
+//! they send back (an ensemble's runs, a founder row's tally), and sends
+//! the page the updates a single worker would: progress, paced partial
+//! results, the finished result. A run depends only on the seed and its
+//! index, and the summaries do not depend on the order runs are added in,
+//! so the result is the single worker's, bit for bit.
 //!
-//! Ranges start at one run and double while a range takes under
-//! [`PARTIAL_INTERVAL_MS`] (so slow runs still report early), and never
-//! exceed half of the remaining runs' fair share, so the last ranges are
-//! short and no helper is left working alone at the end (guided
+//! The runs of a founders comparison are numbered row after row; a range
+//! never crosses a row. Ranges start at one run and double while a range
+//! takes under [`PARTIAL_INTERVAL_MS`] (so slow runs still report early),
+//! and never exceed half of the remaining runs' fair share, so the last
+//! ranges are short and no helper is left working alone at the end (guided
 //! self-scheduling: Polychronopoulos & Kuck 1987, "Guided self-scheduling: a
 //! practical scheduling scheme for parallel supercomputers").
 //!
@@ -21,7 +23,9 @@
 use std::ops::Range;
 
 use serde::{Deserialize, Serialize};
-use tussock_core::stochastic::{Ensemble, EnsembleAccumulator, EnsembleRuns};
+use tussock_core::stochastic::{
+    Ensemble, EnsembleAccumulator, EnsembleRuns, EstablishmentPlan, EstablishmentTally,
+};
 
 use crate::jobs::{Job, Outcome, Task, Update, PARTIAL_INTERVAL_MS};
 
@@ -33,8 +37,13 @@ use crate::jobs::{Job, Outcome, Task, Update, PARTIAL_INTERVAL_MS};
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum HelperAnswer {
     Ready,
+    /// Runs of an ensemble.
     Runs {
         runs: Box<EnsembleRuns>,
+    },
+    /// Runs of one founder row.
+    Tally {
+        tally: Box<EstablishmentTally>,
     },
     Failed {
         message: String,
@@ -43,63 +52,157 @@ pub enum HelperAnswer {
     Other,
 }
 
-/// A helper's work: runs `runs` of the ensemble `job`.
-pub fn run_part(job: &Job, runs: Range<u64>) -> HelperAnswer {
-    let Task::Ensemble { options } = &job.task else {
-        return HelperAnswer::Failed {
-            message: "a helper was sent a job that is not an ensemble".into(),
-        };
-    };
-    let ensemble = job
-        .scenario
-        .validate()
-        .map_err(|e| format!("the scenario is not valid: {e}"))
-        .and_then(|problem| Ensemble::new(&problem, options).map_err(|e| e.to_string()));
-    match ensemble {
-        Err(message) => HelperAnswer::Failed { message },
-        Ok(ensemble) => {
-            let mut acc = ensemble.accumulator();
-            ensemble.run_batch(&mut acc, runs, &mut |_, _| true);
-            HelperAnswer::Runs {
-                runs: Box::new(acc.take_runs()),
+/// What the helpers' runs are gathered into.
+enum Gathered {
+    Ensemble(Box<EnsembleAccumulator>),
+    Founders {
+        plan: Box<EstablishmentPlan>,
+        tallies: Vec<EstablishmentTally>,
+    },
+}
+
+impl Gathered {
+    /// Prepare `job` (None when it is not stochastic runs or not valid),
+    /// with its runs per row.
+    fn new(job: &Job) -> Option<(Gathered, u64)> {
+        let problem = job.scenario.validate().ok()?;
+        match &job.task {
+            Task::Ensemble { options } => {
+                let ensemble = Ensemble::new(&problem, options).ok()?;
+                Some((
+                    Gathered::Ensemble(Box::new(ensemble.accumulator())),
+                    options.runs,
+                ))
+            }
+            Task::Founders { request } => {
+                let plan = EstablishmentPlan::new(&problem, request).ok()?;
+                let tallies = (0..plan.rows()).map(|row| plan.tally(row)).collect();
+                let plan = Box::new(plan);
+                Some((Gathered::Founders { plan, tallies }, request.runs))
+            }
+            _ => None,
+        }
+    }
+
+    fn rows(&self) -> u64 {
+        match self {
+            Gathered::Ensemble(_) => 1,
+            Gathered::Founders { tallies, .. } => tallies.len() as u64,
+        }
+    }
+
+    /// Add a helper's answer for runs `runs`.
+    fn add(&mut self, answer: HelperAnswer, runs: &Range<u64>, per_row: u64) -> Result<(), String> {
+        match (self, answer) {
+            (Gathered::Ensemble(acc), HelperAnswer::Runs { runs }) => acc.add_runs(*runs),
+            (Gathered::Founders { tallies, .. }, HelperAnswer::Tally { tally }) => {
+                let row = (runs.start / per_row) as usize;
+                match tallies.get_mut(row) {
+                    Some(mine) => mine.merge(*tally),
+                    None => Err(format!("there is no row {row}")),
+                }
+            }
+            _ => Err("an answer of another kind of job".into()),
+        }
+    }
+
+    fn outcome(&self, finished: bool) -> Outcome {
+        match self {
+            Gathered::Ensemble(acc) => Outcome::Ensemble(acc.summary()),
+            Gathered::Founders { plan, tallies } => {
+                // While running, the rows with runs so far.
+                let started: Vec<EstablishmentTally> = tallies
+                    .iter()
+                    .filter(|t| finished || t.simulated() > 0)
+                    .cloned()
+                    .collect();
+                Outcome::Founders(plan.table(&started))
             }
         }
     }
 }
 
-/// An ensemble being computed by helpers.
+/// A helper's work: runs `runs` of `job` (numbered row after row for a
+/// founders comparison, within one row).
+pub fn run_part(job: &Job, runs: Range<u64>) -> HelperAnswer {
+    let problem = match job.scenario.validate() {
+        Ok(problem) => problem,
+        Err(e) => {
+            return HelperAnswer::Failed {
+                message: format!("the scenario is not valid: {e}"),
+            }
+        }
+    };
+    let answer = match &job.task {
+        Task::Ensemble { options } => Ensemble::new(&problem, options).map(|ensemble| {
+            let mut acc = ensemble.accumulator();
+            ensemble.run_batch(&mut acc, runs, &mut |_, _| true);
+            HelperAnswer::Runs {
+                runs: Box::new(acc.take_runs()),
+            }
+        }),
+        Task::Founders { request } => EstablishmentPlan::new(&problem, request).map(|plan| {
+            let per_row = request.runs.max(1);
+            let row = runs.start / per_row;
+            let first = row * per_row;
+            let mut tally = plan.tally(row as usize);
+            plan.run_chunk(
+                &mut tally,
+                runs.start - first..runs.end.min(first + per_row) - first,
+                &mut |_, _| true,
+            );
+            HelperAnswer::Tally {
+                tally: Box::new(tally),
+            }
+        }),
+        _ => {
+            return HelperAnswer::Failed {
+                message: "a helper was sent a job that is not stochastic runs".into(),
+            }
+        }
+    };
+    answer.unwrap_or_else(|e| HelperAnswer::Failed {
+        message: e.to_string(),
+    })
+}
+
+/// Stochastic runs being computed by helpers.
 pub struct Spread {
     id: u64,
-    runs: u64,
-    accumulator: EnsembleAccumulator,
+    gathered: Gathered,
+    /// Runs per row (an ensemble is one row).
+    per_row: u64,
+    /// Runs in all rows.
+    total: u64,
     helpers: u64,
     /// The first run not yet handed out.
     next_run: u64,
+    /// Runs whose results have come back.
+    done: u64,
     /// The longest range handed out next.
     range_limit: u64,
-    /// Per helper, when its range was handed out (None: idle).
-    sent_at: Vec<Option<f64>>,
+    /// Per helper, the range it is doing and when it was handed out.
+    out: Vec<Option<(Range<u64>, f64)>>,
     last_partial: f64,
     over: bool,
 }
 
 impl Spread {
-    /// Plan `job` over `helpers` helpers; None when it is not an ensemble
-    /// or does not validate (run in place, it reports its own error).
+    /// Plan `job` over `helpers` helpers; None when it is not stochastic
+    /// runs or does not validate (run in place, it reports its own error).
     pub fn new(job: &Job, helpers: usize) -> Option<Spread> {
-        let Task::Ensemble { options } = &job.task else {
-            return None;
-        };
-        let problem = job.scenario.validate().ok()?;
-        let ensemble = Ensemble::new(&problem, options).ok()?;
-        Some(Spread {
+        let (gathered, per_row) = Gathered::new(job)?;
+        let total = per_row.checked_mul(gathered.rows())?;
+        (total > 0).then(|| Spread {
             id: job.id,
-            runs: options.runs,
-            accumulator: ensemble.accumulator(),
+            gathered,
+            per_row,
+            total,
             helpers: helpers.max(1) as u64,
             next_run: 0,
+            done: 0,
             range_limit: 1,
-            sent_at: vec![None; helpers.max(1)],
+            out: vec![None; helpers.max(1)],
             last_partial: f64::NEG_INFINITY,
             over: false,
         })
@@ -108,15 +211,20 @@ impl Spread {
     /// The next range of runs for `helper`, now idle; None when every run
     /// has been handed out (or the job is over).
     pub fn next_piece(&mut self, helper: usize, now: f64) -> Option<Range<u64>> {
-        let remaining = self.runs - self.next_run;
-        if self.over || remaining == 0 || helper >= self.sent_at.len() {
+        let remaining = self.total - self.next_run;
+        if self.over || remaining == 0 || helper >= self.out.len() {
             return None;
         }
         let fair_share = remaining.div_ceil(2 * self.helpers);
-        let len = self.range_limit.min(fair_share).max(1);
+        let row_end = (self.next_run / self.per_row + 1) * self.per_row;
+        let len = self
+            .range_limit
+            .min(fair_share)
+            .min(row_end - self.next_run)
+            .max(1);
         let runs = self.next_run..self.next_run + len;
         self.next_run = runs.end;
-        self.sent_at[helper] = Some(now);
+        self.out[helper] = Some((runs.clone(), now));
         Some(runs)
     }
 
@@ -127,36 +235,38 @@ impl Spread {
         }
         let id = self.id;
         match answer {
-            HelperAnswer::Runs { runs } => {
-                if let Some(Some(sent)) = self.sent_at.get_mut(helper).map(Option::take) {
-                    if now - sent < PARTIAL_INTERVAL_MS {
-                        self.range_limit = self.range_limit.saturating_mul(2);
-                    }
+            HelperAnswer::Failed { message } => self.fail(message),
+            HelperAnswer::Ready | HelperAnswer::Other => Vec::new(),
+            answer => {
+                let Some((runs, sent)) = self.out.get_mut(helper).and_then(Option::take) else {
+                    return self.fail("a helper sent runs it was not asked for".into());
+                };
+                if now - sent < PARTIAL_INTERVAL_MS {
+                    self.range_limit = self.range_limit.saturating_mul(2);
                 }
-                if let Err(reason) = self.accumulator.add_runs(*runs) {
+                if let Err(reason) = self.gathered.add(answer, &runs, self.per_row) {
                     return self.fail(format!(
                         "a helper worker sent runs that do not fit: {reason}"
                     ));
                 }
-                let (done, total) = (self.accumulator.simulated(), self.runs);
+                self.done += runs.end - runs.start;
+                let (done, total) = (self.done, self.total);
                 let mut updates = vec![Update::Progress { id, done, total }];
                 if done >= total {
                     self.over = true;
                     updates.push(Update::Done {
                         id,
-                        outcome: Outcome::Ensemble(self.accumulator.summary()),
+                        outcome: self.gathered.outcome(true),
                     });
                 } else if now - self.last_partial >= PARTIAL_INTERVAL_MS {
                     self.last_partial = now;
                     updates.push(Update::Partial {
                         id,
-                        outcome: Outcome::Ensemble(self.accumulator.summary()),
+                        outcome: self.gathered.outcome(false),
                     });
                 }
                 updates
             }
-            HelperAnswer::Failed { message } => self.fail(message),
-            HelperAnswer::Ready | HelperAnswer::Other => Vec::new(),
         }
     }
 
@@ -182,8 +292,26 @@ impl Spread {
 mod tests {
     use super::*;
     use crate::jobs::{decode, encode, run_to_end};
-    use tussock_core::stochastic::EnsembleOptions;
+    use tussock_core::stochastic::{EnsembleOptions, EstablishmentRequest};
     use tussock_core::Scenario;
+
+    /// The founders comparison of the reserve example: 12, 20 and 40
+    /// founders in one or two releases, `runs` runs a row.
+    fn founders_job(runs: u64) -> Job {
+        Job {
+            task: Task::Founders {
+                request: EstablishmentRequest {
+                    species: 1,
+                    founders: vec![12, 20, 40],
+                    releases: vec![1, 2],
+                    runs,
+                    seed: 3,
+                    ..EstablishmentRequest::default()
+                },
+            },
+            ..job(1)
+        }
+    }
 
     fn job(runs: u64) -> Job {
         let text = std::fs::read_to_string(format!(
@@ -216,12 +344,18 @@ mod tests {
     fn drive(job: &Job, helpers: usize, step: f64, pick: fn(usize) -> usize) -> Vec<Update> {
         let mut spread = Spread::new(job, helpers).unwrap();
         let mut now = 0.0;
+        let per_row = spread.per_row;
         let mut out: Vec<(usize, Range<u64>)> = (0..helpers)
             .filter_map(|h| spread.next_piece(h, now).map(|p| (h, p)))
             .collect();
         let mut updates = Vec::new();
         while !out.is_empty() {
             let (h, piece) = out.remove(pick(out.len()));
+            assert_eq!(
+                piece.start / per_row,
+                (piece.end - 1) / per_row,
+                "{piece:?}"
+            );
             now += step;
             updates.extend(spread.receive(h, helper(job, piece), now));
             if let Some(next) = spread.next_piece(h, now) {
@@ -267,6 +401,36 @@ mod tests {
                 partials >= 1 && partials <= done.len() / 8 + 1,
                 "{partials}"
             );
+        }
+    }
+
+    #[test]
+    fn founder_rows_spread_over_helpers_give_the_single_workers_table() {
+        let job = founders_job(50);
+        let alone = run_to_end(&job).unwrap();
+        let Outcome::Founders(table) = &alone else {
+            panic!("not a founders table");
+        };
+        assert_eq!((table.rows.len(), table.partial), (6, false));
+        for (helpers, pick) in [(2, (|n| n - 1) as fn(usize) -> usize), (5, |_| 0)] {
+            let updates = drive(&job, helpers, 40.0, pick);
+            let Some(Update::Done { outcome, .. }) = updates.last() else {
+                panic!("no result");
+            };
+            assert!(
+                *outcome == alone,
+                "{helpers} helpers differ from one worker"
+            );
+            // Partial tables list the rows begun so far, marked partial.
+            let partial = updates.iter().find_map(|u| match u {
+                Update::Partial {
+                    outcome: Outcome::Founders(t),
+                    ..
+                } => Some(t),
+                _ => None,
+            });
+            let partial = partial.expect("a partial table");
+            assert!(partial.partial && !partial.rows.is_empty());
         }
     }
 
@@ -328,6 +492,20 @@ mod tests {
             panic!("{} updates, not one failure", got.len());
         };
         assert!(message.contains("another ensemble"), "{message}");
+
+        // Runs nobody asked for, and an ensemble's runs for founder rows.
+        let mut spread = Spread::new(&job, 2).unwrap();
+        let got = spread.receive(1, helper(&job, 0..1), 1.0);
+        assert!(
+            matches!(&got[..], [Update::Failed { message, .. }] if message.contains("not asked"))
+        );
+        let founders = founders_job(10);
+        let mut spread = Spread::new(&founders, 2).unwrap();
+        spread.next_piece(0, 0.0);
+        let got = spread.receive(0, helper(&job, 0..1), 1.0);
+        assert!(
+            matches!(&got[..], [Update::Failed { message, .. }] if message.contains("another kind"))
+        );
     }
 
     #[test]

@@ -2,9 +2,9 @@
 //! post its updates. Everything computed is in `jobs::run`; a panic is
 //! reported to the page as a failed job instead of a silent death.
 //!
-//! An ensemble is spread over helper workers, one per core the browser
-//! reports ([`crate::spread`] plans it); this worker then only hands out
-//! runs and gathers them. A helper is this same worker script, sent
+//! Stochastic runs (an ensemble, a founders comparison) are spread over
+//! helper workers, one per core the browser reports ([`crate::spread`]
+//! plans it); this worker then only hands out runs and gathers them. A helper is this same worker script, sent
 //! `[job bytes, first run, end]` (an array, where the page sends bytes).
 //! With one core, or where a worker cannot start workers of its own, it
 //! runs the job itself. Terminating this worker (the page's cancel) ends
@@ -20,14 +20,14 @@ use web_sys::{DedicatedWorkerGlobalScope, ErrorEvent, MessageEvent, Worker};
 use crate::jobs::{self, Job, Update};
 use crate::spread::{self, HelperAnswer, Spread};
 
-/// Helpers for one ensemble at most: beyond this the page's memory grows
+/// Helpers for one job at most: beyond this the page's memory grows
 /// (a module instance each) for little gain.
 const MAX_HELPERS: usize = 16;
 
 thread_local! {
     /// The job being run, for the panic report.
     static CURRENT: Cell<u64> = const { Cell::new(0) };
-    /// The ensemble being spread over helpers, if any.
+    /// The job being spread over helpers, if any.
     static SPREAD: RefCell<Option<Helpers>> = const { RefCell::new(None) };
 }
 
@@ -39,14 +39,27 @@ struct Helpers {
     /// The page's job, as it came.
     job: Uint8Array,
     workers: Vec<Worker>,
+    /// Per helper: it has loaded (or failed to), and it has been ended.
+    loaded: Vec<bool>,
+    ended: Vec<bool>,
     _listeners: Vec<Listeners>,
 }
 
 impl Helpers {
-    fn stop(&self) {
-        for worker in &self.workers {
-            worker.terminate();
+    /// End the helpers that have loaded. One still loading is ended when
+    /// it says it is ready: ended while loading, it reports a failed script
+    /// load as an uncaught error, up to the page's console.
+    fn end_loaded(&mut self) {
+        for (k, worker) in self.workers.iter().enumerate() {
+            if self.loaded[k] && !self.ended[k] {
+                worker.terminate();
+                self.ended[k] = true;
+            }
         }
+    }
+
+    fn all_ended(&self) -> bool {
+        self.ended.iter().all(|&e| e)
     }
 }
 
@@ -127,14 +140,16 @@ fn cores() -> usize {
         .map_or(1, |n| n as usize)
 }
 
-/// Start `job` on helpers if it is an ensemble worth spreading; false
-/// when this worker should run it itself.
+/// Start `job` on helpers if it is stochastic runs and there are cores to
+/// spread them over; false when this worker should run it itself.
 fn spread_out(job: &Job, bytes: Uint8Array) -> bool {
-    SPREAD.with(|s| {
-        if let Some(old) = s.borrow_mut().take() {
-            old.stop();
+    // The page sends one job per worker; should another come, the first
+    // one's helpers go.
+    if let Some(old) = SPREAD.with(|s| s.borrow_mut().take()) {
+        for worker in &old.workers {
+            worker.terminate();
         }
-    });
+    }
     let count = cores().min(MAX_HELPERS);
     if count < 2 {
         return false;
@@ -157,7 +172,10 @@ fn spread_out(job: &Job, bytes: Uint8Array) -> bool {
         let on_error = Closure::<dyn Fn(ErrorEvent)>::new(move |event: ErrorEvent| {
             event.prevent_default();
             let message = format!("a helper worker stopped: {}", event.message());
-            with_helpers(|h| h.spread.fail(message));
+            with_helpers(|h| {
+                h.loaded[helper] = true;
+                h.spread.fail(message)
+            });
         });
         worker.set_onmessage(Some(on_message.as_ref().unchecked_ref()));
         worker.set_onerror(Some(on_error.as_ref().unchecked_ref()));
@@ -171,6 +189,8 @@ fn spread_out(job: &Job, bytes: Uint8Array) -> bool {
         *s.borrow_mut() = Some(Helpers {
             spread,
             job: bytes,
+            loaded: vec![false; workers.len()],
+            ended: vec![false; workers.len()],
             workers,
             _listeners: listeners,
         })
@@ -182,6 +202,9 @@ fn spread_out(job: &Job, bytes: Uint8Array) -> bool {
 /// gathered and the helper gets more.
 fn from_helper(helper: usize, answer: HelperAnswer) {
     with_helpers(|h| {
+        if let Some(loaded) = h.loaded.get_mut(helper) {
+            *loaded = true;
+        }
         let now = js_sys::Date::now();
         let updates = h.spread.receive(helper, answer, now);
         if let (Some(runs), Some(worker)) =
@@ -198,18 +221,24 @@ fn from_helper(helper: usize, answer: HelperAnswer) {
     });
 }
 
-/// Apply `act` to the helpers, post its updates to the page, and let the
-/// helpers go once the job is over.
+/// Apply `act` to the helpers, post its updates to the page, and end the
+/// helpers once the job is over.
 fn with_helpers(act: impl FnOnce(&mut Helpers) -> Vec<Update>) {
-    let over = SPREAD.with(|s| {
+    SPREAD.with(|s| {
         let mut slot = s.borrow_mut();
-        let helpers = slot.as_mut()?;
+        let Some(helpers) = slot.as_mut() else {
+            return;
+        };
         for update in act(helpers) {
             post(&update);
         }
-        helpers.spread.is_over().then(|| slot.take())
+        if helpers.spread.is_over() {
+            helpers.end_loaded();
+            if helpers.all_ended() {
+                // Dropping the listeners here is safe: wasm-bindgen frees
+                // the one running when it returns.
+                slot.take();
+            }
+        }
     });
-    if let Some(Some(helpers)) = over {
-        helpers.stop();
-    }
 }

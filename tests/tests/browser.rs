@@ -463,6 +463,61 @@ async fn the_browser_ensemble_repeats_the_native_one_seed_for_seed() {
 
 #[tokio::test]
 #[ignore = "needs the app build and Chromium; run scripts/test"]
+async fn the_browser_founders_table_repeats_the_native_one() {
+    // The founder rows, spread over the page's helper workers, against the
+    // same request run natively row after row.
+    let problem = greenhouse(|_| {});
+    let request = tussock_core::stochastic::EstablishmentRequest {
+        species: 1,
+        founders: vec![5, 20],
+        releases: vec![1, 2],
+        every: 10.0,
+        level: 10.0,
+        runs: 300,
+        seed: 9,
+        ..Default::default()
+    };
+    let native =
+        tussock_core::stochastic::establishment(&problem, &request, &mut |_, _| true).unwrap();
+
+    let b = Browser::start().await;
+    b.open_app().await;
+    b.click("#view-chance").await;
+    for (css, value) in [
+        ("#chance-runs", "300"),
+        ("#chance-seed", "9"),
+        ("#chance-founders", "5, 20"),
+        ("#chance-releases", "1, 2"),
+        ("#chance-every", "10"),
+        ("#chance-level", "10"),
+    ] {
+        b.paste_into(css, value).await;
+    }
+    b.select("#chance-founder-species", "1").await;
+    b.click("#chance-founders-run").await;
+    b.wait_for_text("#job-founders", 120, |t| t.contains("finished"))
+        .await;
+    b.click("#csv-founders").await;
+    let csv = b.downloaded("founders.csv").await;
+    assert_eq!(csv.lines().count(), 1 + 4, "{csv}");
+    assert!(
+        csv == tussock_charts::tables::founders_csv(&native),
+        "page:\n{csv}\nnative:\n{}",
+        tussock_charts::tables::founders_csv(&native)
+    );
+    // Stopped at once, while its helpers are still loading: no error.
+    b.paste_into("#chance-runs", "10000").await;
+    b.click("#chance-founders-run").await;
+    b.click("#job-founders-stop").await;
+    b.wait_for_text("#job-founders", 20, |t| t.contains("stopped"))
+        .await;
+    tokio::time::sleep(std::time::Duration::from_secs(1)).await;
+    b.assert_clean_console().await;
+    b.close().await;
+}
+
+#[tokio::test]
+#[ignore = "needs the app build and Chromium; run scripts/test"]
 async fn stopping_a_long_ensemble_keeps_the_partial_result_and_the_page_answers() {
     let b = Browser::start().await;
     b.open_app().await;
