@@ -148,7 +148,7 @@ pub fn run_part(job: &Job, runs: Range<u64>) -> HelperAnswer {
             let mut tally = plan.tally(row as usize);
             plan.run_chunk(
                 &mut tally,
-                runs.start - first..runs.end.min(first + per_row) - first,
+                runs.start - first..runs.end.clamp(runs.start, first + per_row) - first,
                 &mut |_, _| true,
             );
             HelperAnswer::Tally {

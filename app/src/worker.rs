@@ -4,11 +4,11 @@
 //!
 //! Stochastic runs (an ensemble, a founders comparison) are spread over
 //! helper workers, one per core the browser reports ([`crate::spread`]
-//! plans it); this worker then only hands out runs and gathers them. A helper is this same worker script, sent
-//! `[job bytes, first run, end]` (an array, where the page sends bytes).
-//! With one core, or where a worker cannot start workers of its own, it
-//! runs the job itself. Terminating this worker (the page's cancel) ends
-//! its helpers with it.
+//! plans it); this worker then only hands out runs and gathers them. A
+//! helper is this same worker script, sent `[job bytes, first run, end]`
+//! (an array, where the page sends bytes). With one core, or where a worker
+//! cannot start workers of its own, it runs the job itself. Terminating
+//! this worker (the page's cancel) ends its helpers with it.
 
 use std::cell::{Cell, RefCell};
 
@@ -52,6 +52,10 @@ impl Helpers {
     fn end_loaded(&mut self) {
         for (k, worker) in self.workers.iter().enumerate() {
             if self.loaded[k] && !self.ended[k] {
+                // No message already on its way may reach a listener
+                // dropped with these helpers.
+                worker.set_onmessage(None);
+                worker.set_onerror(None);
                 worker.terminate();
                 self.ended[k] = true;
             }
@@ -121,7 +125,7 @@ fn run_part(message: &Array) -> HelperAnswer {
             .filter(|x| *x >= 0.0 && x.is_finite())
     };
     match (jobs::decode::<Job>(&bytes), bound(1), bound(2)) {
-        (Ok(job), Some(start), Some(end)) => {
+        (Ok(job), Some(start), Some(end)) if start <= end => {
             CURRENT.with(|c| c.set(job.id));
             spread::run_part(&job, start as u64..end as u64)
         }
