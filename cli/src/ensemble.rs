@@ -12,8 +12,8 @@ use rayon::prelude::*;
 use tussock_charts::tables;
 use tussock_core::analysis::round_sig;
 use tussock_core::stochastic::{
-    Ensemble, EnsembleAccumulator, EnsembleOptions, EnsembleSummary, EnvironmentalNoise,
-    EstablishmentPlan, EstablishmentRequest, EstablishmentTable, Method, StochasticOptions,
+    Ensemble, EnsembleOptions, EnsembleSummary, EnvironmentalNoise, EstablishmentPlan,
+    EstablishmentRequest, EstablishmentTable, Method, StochasticOptions,
 };
 
 /// How each run is simulated: shared by both subcommands.
@@ -137,31 +137,6 @@ impl RunArgs {
     }
 }
 
-/// Runs in chunks for the pool: about eight per thread, at least one run.
-fn chunks(runs: u64, threads: usize) -> Vec<(u64, u64)> {
-    let per = (runs / (8 * threads.max(1) as u64)).max(1);
-    (0..runs.div_ceil(per))
-        .map(|c| (c * per, ((c + 1) * per).min(runs)))
-        .collect()
-}
-
-fn parallel_ensemble(ensemble: &Ensemble, runs: u64) -> EnsembleAccumulator {
-    chunks(runs, rayon::current_num_threads())
-        .into_par_iter()
-        .map(|(start, end)| {
-            let mut part = ensemble.accumulator();
-            ensemble.run_batch(&mut part, start..end, &mut |_, _| true);
-            part
-        })
-        .reduce(
-            || ensemble.accumulator(),
-            |mut a, b| {
-                a.merge(b);
-                a
-            },
-        )
-}
-
 pub fn ensemble(args: &EnsembleArgs) -> Result<()> {
     let problem = crate::load_problem(&args.file)?;
     let out_dir = OutDir::open(args.out.as_ref())?;
@@ -178,7 +153,7 @@ pub fn ensemble(args: &EnsembleArgs) -> Result<()> {
     let ensemble = Ensemble::new(&problem, &options)?;
     let summary = args
         .run
-        .in_pool(|| parallel_ensemble(&ensemble, options.runs).summary())?;
+        .in_pool(|| tussock_cli::parallel::ensemble(&ensemble, options.runs).summary())?;
     if let Some(dir) = out_dir {
         write_ensemble_files(&dir, &summary)?;
     }
@@ -373,7 +348,7 @@ pub fn founders(args: &FoundersArgs) -> Result<()> {
     let table = args.run.in_pool(|| {
         let tallies: Vec<_> = (0..plan.rows())
             .map(|row| {
-                chunks(request.runs, rayon::current_num_threads())
+                tussock_cli::parallel::chunks(request.runs, rayon::current_num_threads())
                     .into_par_iter()
                     .map(|(start, end)| {
                         let mut tally = plan.tally(row);

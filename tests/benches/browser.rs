@@ -173,8 +173,7 @@ struct EnsembleTimes {
     page: f64,
     /// The native core on one thread.
     one_thread: f64,
-    /// The native core on `threads` threads, merged (as the command line
-    /// does).
+    /// The native core on `threads` threads, as the command line runs it.
     all_cores: f64,
     threads: usize,
 }
@@ -194,39 +193,12 @@ async fn ensemble(b: &Browser) -> EnsembleTimes {
     let native = run_ensemble(&problem, &options, &mut |_, _| true).expect("the native ensemble");
     let one_thread = started.elapsed().as_secs_f64();
 
+    // Rayon's default pool: one thread per core.
     let threads = std::thread::available_parallelism().map_or(1, |n| n.get());
     let started = std::time::Instant::now();
     let ensemble = Ensemble::new(&problem, &options).expect("the native ensemble");
-    // Chunks of ten runs taken in turn from a shared counter, so no thread
-    // idles while another still has work (as rayon does for the command
-    // line).
-    let next = std::sync::atomic::AtomicU64::new(0);
-    let parts: Vec<_> = std::thread::scope(|scope| {
-        let (ensemble, next) = (&ensemble, &next);
-        let handles: Vec<_> = (0..threads)
-            .map(|_| {
-                scope.spawn(move || {
-                    let mut part = ensemble.accumulator();
-                    loop {
-                        let start = next.fetch_add(10, std::sync::atomic::Ordering::Relaxed);
-                        if start >= options.runs {
-                            break part;
-                        }
-                        let end = (start + 10).min(options.runs);
-                        ensemble.run_batch(&mut part, start..end, &mut |_, _| true);
-                    }
-                })
-            })
-            .collect();
-        handles
-            .into_iter()
-            .map(|h| h.join().expect("a native thread"))
-            .collect()
-    });
-    let mut all = ensemble.accumulator();
-    for part in parts {
-        all.merge(part);
-    }
+    // The command line's own parallel runner.
+    let all = tussock_cli::parallel::ensemble(&ensemble, options.runs);
     let all_cores = started.elapsed().as_secs_f64();
     if all.summary() != native {
         eprintln!("the native ensemble differs between one thread and {threads}");
