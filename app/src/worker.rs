@@ -93,7 +93,7 @@ pub fn start() {
     let on_message = Closure::<dyn Fn(MessageEvent)>::new(|event: MessageEvent| {
         let data = event.data();
         if Array::is_array(&data) {
-            post(&run_part(&Array::from(&data)));
+            post(&helper_work(&Array::from(&data)));
             return;
         }
         let bytes = Uint8Array::new(&data).to_vec();
@@ -116,7 +116,7 @@ pub fn start() {
 }
 
 /// A helper's work: `[job bytes, first run, end]`.
-fn run_part(message: &Array) -> HelperAnswer {
+fn helper_work(message: &Array) -> HelperAnswer {
     let bytes = Uint8Array::new(&message.get(0)).to_vec();
     let bound = |i| {
         message
